@@ -1,0 +1,98 @@
+package waveform
+
+import (
+	"errors"
+	"fmt"
+	"math"
+)
+
+// MinSamples is the fewest samples a channel may have; fewer cannot carry an impulse.
+const MinSamples = 8
+
+// Channel is one recorded signal.
+type Channel struct {
+	Name    string
+	Unit    string // SI unit symbol of Samples after scaling, e.g. "V", "A", "V/m"; may be empty
+	Samples []float64
+
+	// Scope metadata, where the file states it.
+	HasRange          bool
+	RangeMin, RangeMax float64 // vertical range in Unit
+	ADCBits           int     // 0 when unknown
+}
+
+// Record is one capture: channels on one uniform time base.
+type Record struct {
+	Source     string // file name, for messages
+	Format     string // reader that produced it, e.g. "text", "npy", "raw"
+	Start_s    float64
+	Interval_s float64
+	Channels   []Channel
+	Meta       map[string]string
+	Warnings   []string
+}
+
+// ErrInvalid is wrapped by every validation failure of NewRecord.
+var ErrInvalid = errors.New("invalid record")
+
+// NewRecord validates and returns a record: positive finite interval, finite start,
+// at least one channel, equal lengths, at least MinSamples samples, finite samples.
+func NewRecord(source string, interval_s, start_s float64, channels []Channel) (*Record, error) {
+	r := &Record{Source: source, Interval_s: interval_s, Start_s: start_s, Channels: channels, Meta: map[string]string{}}
+	if err := r.Validate(); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// Validate checks the invariants NewRecord promises.
+func (r *Record) Validate() error {
+	if !(r.Interval_s > 0) || math.IsInf(r.Interval_s, 0) {
+		return fmt.Errorf("%w: sample interval %g s is not a positive finite number", ErrInvalid, r.Interval_s)
+	}
+	if math.IsNaN(r.Start_s) || math.IsInf(r.Start_s, 0) {
+		return fmt.Errorf("%w: start time %g s is not finite", ErrInvalid, r.Start_s)
+	}
+	if len(r.Channels) == 0 {
+		return fmt.Errorf("%w: no channels", ErrInvalid)
+	}
+	n := len(r.Channels[0].Samples)
+	for _, c := range r.Channels {
+		if len(c.Samples) != n {
+			return fmt.Errorf("%w: channel %q has %d samples, channel %q has %d", ErrInvalid, c.Name, len(c.Samples), r.Channels[0].Name, n)
+		}
+		for i, v := range c.Samples {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fmt.Errorf("%w: channel %q sample %d is %g", ErrInvalid, c.Name, i, v)
+			}
+		}
+	}
+	if n < MinSamples {
+		return fmt.Errorf("%w: %d samples, need at least %d", ErrInvalid, n, MinSamples)
+	}
+	return nil
+}
+
+// Len is the number of samples per channel.
+func (r *Record) Len() int {
+	if len(r.Channels) == 0 {
+		return 0
+	}
+	return len(r.Channels[0].Samples)
+}
+
+// Duration_s is the time spanned from the first to the last sample.
+func (r *Record) Duration_s() float64 { return float64(r.Len()-1) * r.Interval_s }
+
+// Time_s is the time of sample i.
+func (r *Record) Time_s(i int) float64 { return r.Start_s + float64(i)*r.Interval_s }
+
+// Channel returns the channel with the given name, or nil.
+func (r *Record) Channel(name string) *Channel {
+	for i := range r.Channels {
+		if r.Channels[i].Name == name {
+			return &r.Channels[i]
+		}
+	}
+	return nil
+}

@@ -1,0 +1,309 @@
+package waveform
+
+import (
+	"math"
+	"sort"
+)
+
+// Baseline is the level and noise of a record before its event.
+type Baseline struct {
+	Level    float64 // mean of the pre-trigger samples
+	NoiseRMS float64 // standard deviation of the pre-trigger samples
+	Slope    float64 // least-squares slope per sample across the pre-trigger part (drift)
+	Samples  int     // how many samples the estimate used
+}
+
+// PreTriggerLen estimates how many leading samples come before the event: the samples
+// before the signal first departs from its start level by 2 % of its largest excursion,
+// less a margin of a fifth, so that the onset itself never biases the baseline.
+func PreTriggerLen(x []float64) int {
+	if len(x) == 0 {
+		return 0
+	}
+	m := 8
+	if m > len(x) {
+		m = len(x)
+	}
+	head := append([]float64(nil), x[:m]...)
+	sort.Float64s(head)
+	b0 := head[m/2]
+	peak := 0.0
+	for _, v := range x {
+		if d := math.Abs(v - b0); d > peak {
+			peak = d
+		}
+	}
+	if peak == 0 {
+		return len(x)
+	}
+	lim := 0.02 * peak
+	for i, v := range x {
+		if math.Abs(v-b0) > lim {
+			// Noise may cross 2 % early; require the excursion to persist or grow.
+			return i * 4 / 5
+		}
+	}
+	return len(x)
+}
+
+// EstimateBaseline measures level, noise and drift over x[:n].
+func EstimateBaseline(x []float64, n int) Baseline {
+	if n > len(x) {
+		n = len(x)
+	}
+	if n <= 0 {
+		return Baseline{}
+	}
+	var s float64
+	for _, v := range x[:n] {
+		s += v
+	}
+	mean := s / float64(n)
+	var ss, sxy, sxx float64
+	c := float64(n-1) / 2
+	for i, v := range x[:n] {
+		d := v - mean
+		ss += d * d
+		xi := float64(i) - c
+		sxy += xi * d
+		sxx += xi * xi
+	}
+	b := Baseline{Level: mean, Samples: n}
+	if n > 1 {
+		b.NoiseRMS = math.Sqrt(ss / float64(n-1))
+		b.Slope = sxy / sxx
+	}
+	return b
+}
+
+// Extreme returns the index and value of the sample farthest from zero.
+func Extreme(x []float64) (int, float64) {
+	best, bi := 0.0, 0
+	for i, v := range x {
+		if math.Abs(v) > math.Abs(best) {
+			best, bi = v, i
+		}
+	}
+	return bi, best
+}
+
+// ArgMax returns the index and value of the largest sample in x[from:to].
+func ArgMax(x []float64, from, to int) (int, float64) {
+	bi, best := from, math.Inf(-1)
+	for i := from; i < to; i++ {
+		if x[i] > best {
+			best, bi = x[i], i
+		}
+	}
+	return bi, best
+}
+
+// CrossUp returns the fractional index of the first upward crossing of level in
+// x[from:to], linearly interpolated, or -1 when there is none.
+func CrossUp(x []float64, level float64, from, to int) float64 {
+	if from < 0 {
+		from = 0
+	}
+	if to > len(x) {
+		to = len(x)
+	}
+	for i := from + 1; i < to; i++ {
+		if x[i-1] < level && x[i] >= level {
+			return float64(i-1) + (level-x[i-1])/(x[i]-x[i-1])
+		}
+	}
+	return -1
+}
+
+// LastCrossUp returns the fractional index of the last upward crossing of level in
+// x[from:to], or -1. On a noisy front it picks the crossing nearest the peak.
+func LastCrossUp(x []float64, level float64, from, to int) float64 {
+	if from < 0 {
+		from = 0
+	}
+	if to > len(x) {
+		to = len(x)
+	}
+	for i := to - 1; i > from; i-- {
+		if x[i-1] < level && x[i] >= level {
+			return float64(i-1) + (level-x[i-1])/(x[i]-x[i-1])
+		}
+	}
+	return -1
+}
+
+// CrossDown returns the fractional index of the first downward crossing of level in
+// x[from:to], or -1.
+func CrossDown(x []float64, level float64, from, to int) float64 {
+	if from < 0 {
+		from = 0
+	}
+	if to > len(x) {
+		to = len(x)
+	}
+	for i := from + 1; i < to; i++ {
+		if x[i-1] > level && x[i] <= level {
+			return float64(i-1) + (x[i-1]-level)/(x[i-1]-x[i])
+		}
+	}
+	return -1
+}
+
+// CumTrapz writes the cumulative trapezoidal integral of x with step dt into out
+// (allocated when nil or short) and returns it; out[0] is 0.
+func CumTrapz(x []float64, dt float64, out []float64) []float64 {
+	if len(out) < len(x) {
+		out = make([]float64, len(x))
+	}
+	out = out[:len(x)]
+	if len(x) == 0 {
+		return out
+	}
+	out[0] = 0
+	acc, h := 0.0, dt/2
+	for i := 1; i < len(x); i++ {
+		acc += (x[i-1] + x[i]) * h
+		out[i] = acc
+	}
+	return out
+}
+
+// Derivative writes the central-difference derivative of x into out (one-sided at the
+// ends) and returns it.
+func Derivative(x []float64, dt float64, out []float64) []float64 {
+	n := len(x)
+	if len(out) < n {
+		out = make([]float64, n)
+	}
+	out = out[:n]
+	if n < 2 {
+		for i := range out {
+			out[i] = 0
+		}
+		return out
+	}
+	out[0] = (x[1] - x[0]) / dt
+	out[n-1] = (x[n-1] - x[n-2]) / dt
+	h := 1 / (2 * dt)
+	for i := 1; i < n-1; i++ {
+		out[i] = (x[i+1] - x[i-1]) * h
+	}
+	return out
+}
+
+// UndoDroop inverts a first-order high-pass (time constant tau_s) in place: a signal
+// v measured through C-R coupling is restored as x = v + (1/tau) integral v dt.
+// The trapezoidal integral makes the inverse exact for signals linear between samples.
+func UndoDroop(v []float64, dt, tau_s float64) {
+	acc, prev := 0.0, 0.0
+	k := dt / (2 * tau_s)
+	for i, s := range v {
+		if i > 0 {
+			acc += (prev + s) * k
+		}
+		prev = s
+		v[i] = s + acc
+	}
+}
+
+// ZeroPhaseLowPass runs a first-order low-pass with time constant tau_s forward and
+// then backward over x in place, so the phase cancels; its power gain is
+// 1/(1 + (2 pi f tau)^2) where the discretisation is fine against tau.
+func ZeroPhaseLowPass(x []float64, dt, tau_s float64) {
+	if len(x) == 0 || tau_s <= 0 {
+		return
+	}
+	a := math.Exp(-dt / tau_s)
+	b := 1 - a
+	y := x[0]
+	for i := range x {
+		y = a*y + b*x[i]
+		x[i] = y
+	}
+	y = x[len(x)-1]
+	for i := len(x) - 1; i >= 0; i-- {
+		y = a*y + b*x[i]
+		x[i] = y
+	}
+}
+
+// Clip describes a run of samples stuck at a limit.
+type Clip struct {
+	Index, Length int
+	Level         float64
+}
+
+// DetectClipping reports runs of samples stuck at the channel's limit. With a stated
+// vertical range, any sample within half a code of either edge counts. Without one, a
+// run of equal samples at the record's maximum or minimum counts only when the signal
+// ran into it faster than a rounded, quantised peak would: a smooth peak spends about
+// 6 quanta of slope-times-width in its top code, a clipped one far more.
+func DetectClipping(c *Channel) (Clip, bool) {
+	x := c.Samples
+	if len(x) < 3 {
+		return Clip{}, false
+	}
+	if c.HasRange && c.RangeMax > c.RangeMin {
+		tol := (c.RangeMax - c.RangeMin) * 1e-9
+		if c.ADCBits > 0 && c.ADCBits < 40 {
+			tol = (c.RangeMax - c.RangeMin) / math.Exp2(float64(c.ADCBits)) / 2
+		}
+		for i, v := range x {
+			if v >= c.RangeMax-tol || v <= c.RangeMin+tol {
+				n := 1
+				for i+n < len(x) && (x[i+n] >= c.RangeMax-tol || x[i+n] <= c.RangeMin+tol) {
+					n++
+				}
+				return Clip{Index: i, Length: n, Level: v}, true
+			}
+		}
+		return Clip{}, false
+	}
+	lo, hi := x[0], x[0]
+	q := math.Inf(1)
+	for i, v := range x {
+		if v < lo {
+			lo = v
+		}
+		if v > hi {
+			hi = v
+		}
+		if i > 0 {
+			if d := math.Abs(v - x[i-1]); d > 0 && d < q {
+				q = d
+			}
+		}
+	}
+	if math.IsInf(q, 1) {
+		return Clip{}, false
+	}
+	for _, lvl := range []float64{hi, lo} {
+		i := 0
+		for i < len(x) {
+			if x[i] != lvl {
+				i++
+				continue
+			}
+			n := 1
+			for i+n < len(x) && x[i+n] == lvl {
+				n++
+			}
+			if n >= 3 && i > 0 {
+				k := n / 2
+				if k > i-1 {
+					k = i - 1
+				}
+				if k >= 1 {
+					slope := math.Abs(x[i-1]-x[i-1-k]) / float64(k)
+					// the step from the last free sample into the run counts too
+					step := math.Abs(lvl - x[i-1])
+					if slope*float64(n) > 20*q || step > 0.05*math.Max(math.Abs(hi), math.Abs(lo)) {
+						return Clip{Index: i, Length: n, Level: lvl}, true
+					}
+				}
+			}
+			i += n
+		}
+	}
+	return Clip{}, false
+}
