@@ -1,0 +1,173 @@
+package readers
+
+import (
+	"encoding/binary"
+	"math"
+	"strconv"
+	"unsafe"
+)
+
+// pow10 holds the powers of ten that float64 represents exactly.
+var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
+	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
+
+var pow10u = [...]uint64{1, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
+	1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19}
+
+// digitRun returns the value of the decimal digits at b[i:] and the index after them.
+// A run of up to 8 digits with 8 bytes of the slice behind its end is converted in one
+// word (the SWAR method of Lemire's fast_float): the loads overlap but the multiply
+// chain that bounds a digit-by-digit loop is gone. Runs of more than 19 digits return
+// garbage for the value; callers check the length.
+func digitRun(b []byte, i int) (uint64, int) {
+	j := i
+	for j < len(b) && b[j]-'0' <= 9 {
+		j++
+	}
+	k := j - i
+	if k == 0 {
+		return 0, j
+	}
+	if k <= 8 && j >= 8 {
+		v := binary.LittleEndian.Uint64(b[j-8 : j])
+		if k < 8 {
+			// keep the last k bytes, put '0' in the bytes before the run
+			mask := ^uint64(0) << (8 * uint(8-k))
+			v = v&mask | 0x3030303030303030&^mask
+		}
+		v -= 0x3030303030303030
+		v = v*10 + v>>8
+		v = ((v&0x000000FF000000FF)*(100+(1000000<<32)) + ((v>>16)&0x000000FF000000FF)*(1+(10000<<32))) >> 32
+		return v, j
+	}
+	var m uint64
+	for _, c := range b[i:j] {
+		m = m*10 + uint64(c-'0')
+	}
+	return m, j
+}
+
+// parseFloat parses a decimal number written with decimal separator dec ('.' or ',').
+// The fast path is Clinger's: a mantissa below 2^53 and a power of ten up to 1e22 are
+// both exact, so one correctly rounded multiply or divide gives the correctly rounded
+// result, bit-identical to strconv.ParseFloat. Everything else goes to strconv.
+func parseFloat(b []byte, dec byte) (float64, bool) {
+	f, end, ok := fastPrefix(b, 0, dec)
+	if ok && end == len(b) {
+		return f, true
+	}
+	return slowFloat(b, dec)
+}
+
+// fastPrefix parses the simple number at b[i:] and returns it and the index after
+// it; ok is false when the number needs the slow path or there is none.
+func fastPrefix(b []byte, i int, dec byte) (f float64, end int, ok bool) {
+	n := len(b)
+	neg := false
+	if i < n && (b[i] == '-' || b[i] == '+') {
+		neg = b[i] == '-'
+		i++
+	}
+	exp := 0
+	d0 := i
+	mant, i := digitRun(b, i)
+	nd := i - d0
+	if i < n && b[i] == dec {
+		i++
+		f0 := i
+		var frac uint64
+		frac, i = digitRun(b, i)
+		if k := i - f0; k > 0 {
+			if nd+k > 19 {
+				return 0, i, false
+			}
+			mant = mant*pow10u[k] + frac
+			exp = -k
+			nd += k
+		}
+	}
+	// More than 19 digits may have overflowed mant; leading zeros count here, which
+	// only sends a few extra cells to the slow path.
+	if nd == 0 || nd > 19 {
+		return 0, i, false
+	}
+	if i < n && (b[i] == 'e' || b[i] == 'E') {
+		i++
+		eneg := false
+		if i < n && (b[i] == '-' || b[i] == '+') {
+			eneg = b[i] == '-'
+			i++
+		}
+		e0 := i
+		e := 0
+		for ; i < n; i++ {
+			c := b[i] - '0'
+			if c > 9 {
+				break
+			}
+			if e < 10000 {
+				e = e*10 + int(c)
+			}
+		}
+		if i == e0 {
+			return 0, i, false
+		}
+		if eneg {
+			e = -e
+		}
+		exp += e
+	}
+	if mant == 0 {
+		if neg {
+			return math.Copysign(0, -1), i, true
+		}
+		return 0, i, true
+	}
+	if mant>>53 != 0 || exp < -22 || exp > 22 {
+		return 0, i, false
+	}
+	f = float64(mant)
+	if exp < 0 {
+		f /= pow10[-exp]
+	} else {
+		f *= pow10[exp]
+	}
+	if neg {
+		f = -f
+	}
+	return f, i, true
+}
+
+// slowFloat handles what the fast path does not, through strconv. Underscores and hex
+// are refused: no scope writes them and strconv would read "0x1p3" as a number.
+func slowFloat(b []byte, dec byte) (float64, bool) {
+	var buf [64]byte
+	s := b
+	if len(s) > 1 && s[0] == '"' && s[len(s)-1] == '"' {
+		s = s[1 : len(s)-1]
+	}
+	if len(s) == 0 || len(s) > len(buf) {
+		return 0, false
+	}
+	t := buf[:len(s)]
+	for i, c := range s {
+		switch {
+		case c == dec:
+			c = '.'
+		case c == '.' && dec != '.':
+			return 0, false
+		case c == '_' || c == 'x' || c == 'X' || c == 'p' || c == 'P':
+			return 0, false
+		}
+		t[i] = c
+	}
+	f, err := strconv.ParseFloat(unsafe.String(&t[0], len(t)), 64)
+	if err != nil {
+		// A value out of range is still a number; report it as not finite.
+		if e, ok := err.(*strconv.NumError); ok && e.Err == strconv.ErrRange {
+			return f, true
+		}
+		return 0, false
+	}
+	return f, true
+}

@@ -1,0 +1,135 @@
+package readers
+
+import (
+	"bufio"
+	"errors"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+
+	"github.com/hvshot/hvshot/waveform"
+)
+
+// Options collect what a file may not say about itself; the zero value asks the
+// readers to find everything in the content.
+type Options struct {
+	Interval_s float64  // sample interval when the file has none
+	TimeColumn string   // "auto" (default), "first" or "none"
+	Raw        *RawSpec // describes a binary capture; ReadFile also finds a sidecar
+	Names      []string // channel names for formats that carry none
+	SizeHint   int64    // file size when known (ReadFile sets it); sizes buffers only
+}
+
+// Format names what Sniff found.
+type Format string
+
+const (
+	FormatText Format = "text"
+	FormatNPY  Format = "npy"
+	FormatRaw  Format = "raw"
+)
+
+// SniffFormat decides the format from the first bytes: the .npy magic, binary bytes
+// (raw, which needs a description), or text. The extension is only a hint for raw.
+func SniffFormat(head []byte, name string) Format {
+	if len(head) >= 6 && string(head[:6]) == string(npyMagic) {
+		return FormatNPY
+	}
+	b := head
+	if len(b) > 3 && b[0] == 0xEF && b[1] == 0xBB && b[2] == 0xBF {
+		b = b[3:]
+	}
+	if len(b) > 4096 {
+		b = b[:4096]
+	}
+	if binaryByte(b) >= 0 {
+		return FormatRaw
+	}
+	switch strings.ToLower(filepath.Ext(name)) {
+	case ".bin", ".raw", ".i16", ".f32", ".f64":
+		if len(b) == 0 {
+			return FormatRaw
+		}
+	}
+	return FormatText
+}
+
+// Read reads one capture from r; name is used in messages and as a format hint.
+func Read(r io.Reader, name string, opt Options) (*waveform.Record, error) {
+	br := bufio.NewReaderSize(r, 1<<16)
+	head, _ := br.Peek(4096)
+	switch SniffFormat(head, name) {
+	case FormatNPY:
+		return ReadNPY(br, name, NPYOptions{Interval_s: opt.Interval_s, TimeColumn: opt.TimeColumn, Names: opt.Names})
+	case FormatRaw:
+		if opt.Raw == nil {
+			if len(head) == 0 {
+				return nil, fileErr(name, ErrEmpty, "")
+			}
+			return nil, byteErr(name, int64(binaryByte(head)), ErrBinary, "binary data with no description: put a "+SidecarSuffix+" file beside it or give --raw-sample and --interval")
+		}
+		return readRaw(br, name, *opt.Raw, sizeHint(r, opt))
+	}
+	if opt.Raw != nil && len(head) > 0 {
+		// The user said raw: believe them over a sniff that found only printable bytes.
+		return readRaw(br, name, *opt.Raw, sizeHint(r, opt))
+	}
+	return ReadText(br, name, TextOptions{Interval_s: opt.Interval_s, TimeColumn: opt.TimeColumn, SizeHint: sizeHint(r, opt)})
+}
+
+func sizeHint(r io.Reader, opt Options) int64 {
+	if opt.SizeHint > 0 {
+		return opt.SizeHint
+	}
+	if l, ok := r.(interface{ Len() int }); ok {
+		return int64(l.Len())
+	}
+	return 0
+}
+
+// SidecarFor returns the raw description path for a capture, if one exists.
+func SidecarFor(path string) (string, bool) {
+	for _, p := range []string{path + SidecarSuffix, strings.TrimSuffix(path, filepath.Ext(path)) + SidecarSuffix} {
+		if st, err := os.Stat(p); err == nil && st.Mode().IsRegular() {
+			return p, true
+		}
+	}
+	return "", false
+}
+
+// ReadFile opens and reads one capture, using a sidecar raw description when there is
+// one and opt has none.
+func ReadFile(path string, opt Options) (*waveform.Record, error) {
+	if opt.Raw == nil {
+		if sc, ok := SidecarFor(path); ok {
+			f, err := os.Open(sc)
+			if err != nil {
+				return nil, fileErr(sc, err, "")
+			}
+			spec, err := ParseSidecar(f, sc)
+			f.Close()
+			if err != nil {
+				return nil, err
+			}
+			opt.Raw = &spec
+		}
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		var pe *os.PathError
+		if errors.As(err, &pe) {
+			return nil, fileErr(path, pe.Err, "")
+		}
+		return nil, fileErr(path, err, "")
+	}
+	defer f.Close()
+	if st, err := f.Stat(); err == nil && opt.SizeHint == 0 {
+		opt.SizeHint = st.Size()
+	}
+	rec, err := Read(f, path, opt)
+	if rec != nil {
+		rec.Source = path
+	}
+	return rec, err
+}
