@@ -25,10 +25,30 @@ func (p DoubleExp) At(t float64) float64 {
 	return p.U * (math.Exp(-u/p.Tau1_s) - math.Exp(-u/p.Tau2_s))
 }
 
-// Eval writes the curve at t0 + i dt into out.
+// Eval writes the curve at t0 + i dt into out. The exponentials come from the
+// recurrence exp(-(u+dt)/tau) = exp(-u/tau) exp(-dt/tau), re-anchored every 256 samples.
 func (p DoubleExp) Eval(t0, dt float64, out []float64) {
-	for i := range out {
-		out[i] = p.At(t0 + float64(i)*dt)
+	k0 := int(math.Ceil((p.Td_s - t0) / dt))
+	if k0 < 0 {
+		k0 = 0
+	}
+	for i := 0; i < k0 && i < len(out); i++ {
+		out[i] = 0
+	}
+	r1, r2 := math.Exp(-dt/p.Tau1_s), math.Exp(-dt/p.Tau2_s)
+	var e1, e2 float64
+	for i := k0; i < len(out); i++ {
+		if (i-k0)&255 == 0 {
+			u := t0 + float64(i)*dt - p.Td_s
+			e1, e2 = math.Exp(-u/p.Tau1_s), math.Exp(-u/p.Tau2_s)
+		} else {
+			e1 *= r1
+			e2 *= r2
+			if e2 < 1e-290 {
+				e2 = 0
+			}
+		}
+		out[i] = p.U * (e1 - e2)
 	}
 }
 

@@ -16,9 +16,9 @@ type Channel struct {
 	Samples []float64
 
 	// Scope metadata, where the file states it.
-	HasRange          bool
+	HasRange           bool
 	RangeMin, RangeMax float64 // vertical range in Unit
-	ADCBits           int     // 0 when unknown
+	ADCBits            int     // 0 when unknown
 }
 
 // Record is one capture: channels on one uniform time base.

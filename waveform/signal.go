@@ -307,3 +307,23 @@ func DetectClipping(c *Channel) (Clip, bool) {
 	}
 	return Clip{}, false
 }
+
+// NoiseFromDifferences estimates white noise RMS from the whole record: the median of
+// |x[i+1] - x[i]| over 0.6745 sqrt 2 (the normal distribution's MAD). A smooth impulse
+// adds little to sample-to-sample differences, so this holds without a pre-trigger part.
+func NoiseFromDifferences(x []float64) float64 {
+	n := len(x) - 1
+	if n < 2 {
+		return 0
+	}
+	stride := 1
+	if n > 4096 {
+		stride = n / 4096
+	}
+	d := make([]float64, 0, n/stride+1)
+	for i := 0; i < n; i += stride {
+		d = append(d, math.Abs(x[i+1]-x[i]))
+	}
+	sort.Float64s(d)
+	return d[len(d)/2] / (0.6745 * math.Sqrt2)
+}

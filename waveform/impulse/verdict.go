@@ -1,0 +1,141 @@
+package impulse
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+
+	"github.com/hvshot/hvshot/waveform"
+)
+
+// Nominal is the shape and value a test series aims for.
+type Nominal struct {
+	Front_s float64 // T1 for lightning, Tp for switching
+	Tail_s  float64 // T2
+	Peak_v  float64 // nominal test voltage magnitude; 0 when not given
+	Chopped bool    // chopped impulses are intended
+}
+
+// Switching reports whether the nominal is a switching shape: a front beyond the
+// lightning range.
+func (n Nominal) Switching() bool { return n.Front_s > 20e-6 }
+
+// Class is the shape family the nominal asks for.
+func (n Nominal) Class() Shape {
+	switch {
+	case n.Switching():
+		return Switching
+	case n.Chopped:
+		return LightningChopped
+	}
+	return LightningFull
+}
+
+// ParseNominal reads "1.2/50" or "250/2500": front and tail in microseconds.
+func ParseNominal(s string) (Nominal, error) {
+	parts := strings.Split(strings.TrimSpace(s), "/")
+	if len(parts) != 2 {
+		return Nominal{}, fmt.Errorf("nominal shape %q: want front/tail in microseconds, e.g. 1.2/50 or 250/2500", s)
+	}
+	f, err1 := strconv.ParseFloat(strings.TrimSpace(parts[0]), 64)
+	t, err2 := strconv.ParseFloat(strings.TrimSpace(parts[1]), 64)
+	if err1 != nil || err2 != nil || !(f > 0) || !(t > f) || math.IsInf(t, 0) {
+		return Nominal{}, fmt.Errorf("nominal shape %q: front and tail must be positive numbers of microseconds, tail longer than front", s)
+	}
+	return Nominal{Front_s: f * 1e-6, Tail_s: t * 1e-6}, nil
+}
+
+func (n Nominal) String() string {
+	return strconv.FormatFloat(n.Front_s*1e6, 'g', -1, 64) + "/" + strconv.FormatFloat(n.Tail_s*1e6, 'g', -1, 64)
+}
+
+// Tolerances are the permitted deviations, in percent of the nominal value.
+// DefaultTolerances holds IEC 60060-1:2010's.
+type Tolerances struct {
+	TestVoltagePct   float64 // +-3
+	FrontPct         float64 // T1 +-30
+	TailPct          float64 // T2 +-20
+	OvershootMaxPct  float64 // beta' <= 10
+	TimeToPeakPct    float64 // switching Tp +-20
+	SwitchingTailPct float64 // switching T2 +-60
+}
+
+// DefaultTolerances returns the tolerances of IEC 60060-1:2010 for the standard shapes.
+func DefaultTolerances() Tolerances {
+	return Tolerances{TestVoltagePct: 3, FrontPct: 30, TailPct: 20, OvershootMaxPct: 10, TimeToPeakPct: 20, SwitchingTailPct: 60}
+}
+
+// Failure names a parameter out of tolerance, its value and the allowed range, in SI.
+type Failure struct {
+	Parameter string  `json:"parameter"`
+	Value     float64 `json:"value"`
+	Min       float64 `json:"min"`
+	Max       float64 `json:"max"`
+	Unit      string  `json:"unit"`
+}
+
+func (f Failure) String() string {
+	scale, unit := 1.0, f.Unit
+	switch f.Unit {
+	case "s":
+		scale, unit = 1e6, "us"
+	case "V":
+		scale, unit = 1e-3, "kV"
+	}
+	if f.Parameter == "shape" {
+		return "shape differs from the nominal"
+	}
+	if math.IsInf(f.Min, -1) {
+		return fmt.Sprintf("%s %.4g %s above %.4g %s", f.Parameter, f.Value*scale, unit, f.Max*scale, unit)
+	}
+	return fmt.Sprintf("%s %.4g %s outside %.4g..%.4g %s", f.Parameter, f.Value*scale, unit, f.Min*scale, f.Max*scale, unit)
+}
+
+// Judge checks r against the nominal shape and tolerances; no failures means pass.
+// Parameters that are absent (a record cut before T2) are not judged; the warnings
+// say why.
+func Judge(r *Result, nom Nominal, tol Tolerances) []Failure {
+	var out []Failure
+	band := func(name string, v, nominal, pct float64, unit string) {
+		if math.IsNaN(v) || nominal <= 0 {
+			return
+		}
+		lo, hi := nominal*(1-pct/100), nominal*(1+pct/100)
+		if v < lo || v > hi {
+			out = append(out, Failure{Parameter: name, Value: v, Min: lo, Max: hi, Unit: unit})
+		}
+	}
+	want := nom.Class()
+	if r.Shape != want {
+		out = append(out, Failure{Parameter: "shape", Value: math.NaN(), Min: math.NaN(), Max: math.NaN()})
+	}
+	band("test_voltage", r.TestVoltageV, nom.Peak_v, tol.TestVoltagePct, "V")
+	switch r.Shape {
+	case Switching:
+		band("time_to_peak", r.TimeToPeak_s, nom.Front_s, tol.TimeToPeakPct, "s")
+		band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.SwitchingTailPct, "s")
+	default:
+		band("front_time", r.FrontTime_s, nom.Front_s, tol.FrontPct, "s")
+		if r.Shape == LightningFull {
+			band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.TailPct, "s")
+		}
+		if !math.IsNaN(r.OvershootPct) && r.OvershootPct > tol.OvershootMaxPct {
+			out = append(out, Failure{Parameter: "overshoot", Value: r.OvershootPct, Min: math.Inf(-1), Max: tol.OvershootMaxPct, Unit: "%"})
+		}
+	}
+	return out
+}
+
+// EvaluateChannel evaluates a channel and adds the clipping check that needs the
+// channel's stated range.
+func EvaluateChannel(c *waveform.Channel, t0, dt float64, s Settings) (*Result, error) {
+	r, err := Evaluate(c.Samples, t0, dt, s)
+	if err != nil {
+		return nil, err
+	}
+	if cl, ok := waveform.DetectClipping(c); ok {
+		r.warn("clipped", "%d samples stuck at %.4g %s from sample %d: the extreme, the test voltage and the overshoot are not trustworthy", cl.Length, cl.Level, c.Unit, cl.Index)
+	}
+	return r, nil
+}
