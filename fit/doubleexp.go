@@ -428,3 +428,71 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 	}
 	return res, nil
 }
+
+// ForLightning returns tau1 and tau2 (Td 0, peak 1) of the double exponential whose
+// front time and time to half-value, as IEC 60060-1 defines them on a smooth curve,
+// are t1 and t2; ForSwitching does the same for the time to peak (the closed-form peak
+// delay) and the time to half-value from the true origin. Solved by Newton's method on
+// the logarithms of the time constants.
+func ForLightning(t1_s, t2_s float64) (DoubleExp, error) {
+	return solveShape(t1_s, t2_s, func(p DoubleExp) (float64, float64) {
+		a30, a90 := p.LevelDelay_s(0.3, true), p.LevelDelay_s(0.9, true)
+		T1 := 1.67 * (a90 - a30)
+		return T1, p.LevelDelay_s(0.5, false) - (a30 - 0.3*T1)
+	}, DoubleExp{Tau1_s: t2_s / 0.733, Tau2_s: t1_s / 2.96})
+}
+
+// ForSwitching: see ForLightning.
+func ForSwitching(tp_s, t2_s float64) (DoubleExp, error) {
+	return solveShape(tp_s, t2_s, func(p DoubleExp) (float64, float64) {
+		return p.PeakDelay_s(), p.LevelDelay_s(0.5, false)
+	}, DoubleExp{Tau1_s: t2_s / 0.8, Tau2_s: tp_s / 4})
+}
+
+func solveShape(a, b float64, times func(DoubleExp) (float64, float64), p DoubleExp) (DoubleExp, error) {
+	p.U = 1
+	if !(a > 0) || !(b > 2*a) {
+		return p, fmt.Errorf("fit: no double exponential for front %g s and tail %g s (tail must exceed twice the front)", a, b)
+	}
+	x := [2]float64{math.Log(p.Tau1_s), math.Log(p.Tau2_s)}
+	f := func(x [2]float64) [2]float64 {
+		q := DoubleExp{U: 1, Tau1_s: math.Exp(x[0]), Tau2_s: math.Exp(x[1])}
+		if q.Tau1_s <= q.Tau2_s*1.001 {
+			return [2]float64{math.Inf(1), math.Inf(1)}
+		}
+		ga, gb := times(q)
+		return [2]float64{math.Log(ga / a), math.Log(gb / b)}
+	}
+	for it := 0; it < 100; it++ {
+		r := f(x)
+		if math.Abs(r[0]) < 1e-12 && math.Abs(r[1]) < 1e-12 {
+			p.Tau1_s, p.Tau2_s = math.Exp(x[0]), math.Exp(x[1])
+			return p, nil
+		}
+		const h = 1e-6
+		var j [2][2]float64
+		for k := 0; k < 2; k++ {
+			xh := x
+			xh[k] += h
+			rh := f(xh)
+			j[0][k], j[1][k] = (rh[0]-r[0])/h, (rh[1]-r[1])/h
+		}
+		det := j[0][0]*j[1][1] - j[0][1]*j[1][0]
+		if det == 0 || math.IsNaN(det) || math.IsInf(det, 0) {
+			break
+		}
+		d0 := (r[0]*j[1][1] - r[1]*j[0][1]) / det
+		d1 := (j[0][0]*r[1] - j[1][0]*r[0]) / det
+		step := 1.0
+		for k := 0; k < 30; k++ {
+			xn := [2]float64{x[0] - step*d0, x[1] - step*d1}
+			rn := f(xn)
+			if math.Hypot(rn[0], rn[1]) < math.Hypot(r[0], r[1]) {
+				x = xn
+				break
+			}
+			step /= 2
+		}
+	}
+	return p, fmt.Errorf("fit: no double exponential found for front %g s and tail %g s", a, b)
+}

@@ -109,3 +109,18 @@ func BenchmarkFit100k(b *testing.B) {
 	}
 	_ = math.Pi
 }
+
+func TestForTimes(t *testing.T) {
+	// 1.2/50 solved for gives back the handbook pair within the rounding of the
+	// handbook's own values (68.2 us, 0.405 us; high-voltage engineering textbooks).
+	p, err := ForLightning(1.2e-6, 50e-6)
+	require.NoError(t, err)
+	assert.InEpsilon(t, 68.2e-6, p.Tau1_s, 0.005)
+	assert.InEpsilon(t, 0.405e-6, p.Tau2_s, 0.01)
+	s, err := ForSwitching(250e-6, 2500e-6)
+	require.NoError(t, err)
+	assert.InEpsilon(t, 250e-6, s.PeakDelay_s(), 1e-9)
+	assert.InEpsilon(t, 2500e-6, s.LevelDelay_s(0.5, false), 1e-9)
+	_, err = ForLightning(1e-6, 1.5e-6)
+	assert.Error(t, err)
+}

@@ -84,7 +84,7 @@ func (f Failure) String() string {
 		scale, unit = 1e-3, "kV"
 	}
 	if f.Parameter == "shape" {
-		return "shape differs from the nominal"
+		return "shape " + f.Unit // e.g. "lightning-chopped, nominal lightning-full"
 	}
 	if math.IsInf(f.Min, -1) {
 		return fmt.Sprintf("%s %.4g %s above %.4g %s", f.Parameter, f.Value*scale, unit, f.Max*scale, unit)
@@ -108,7 +108,7 @@ func Judge(r *Result, nom Nominal, tol Tolerances) []Failure {
 	}
 	want := nom.Class()
 	if r.Shape != want {
-		out = append(out, Failure{Parameter: "shape", Value: math.NaN(), Min: math.NaN(), Max: math.NaN()})
+		out = append(out, Failure{Parameter: "shape", Value: math.NaN(), Min: math.NaN(), Max: math.NaN(), Unit: string(r.Shape) + ", nominal " + string(want)})
 	}
 	band("test_voltage", r.TestVoltageV, nom.Peak_v, tol.TestVoltagePct, "V")
 	switch r.Shape {
