@@ -47,7 +47,7 @@ func ParseNominal(s string) (Nominal, error) {
 }
 
 func (n Nominal) String() string {
-	return strconv.FormatFloat(n.Front_s*1e6, 'g', -1, 64) + "/" + strconv.FormatFloat(n.Tail_s*1e6, 'g', -1, 64)
+	return strconv.FormatFloat(n.Front_s*1e6, 'g', 6, 64) + "/" + strconv.FormatFloat(n.Tail_s*1e6, 'g', 6, 64)
 }
 
 // Tolerances are the permitted deviations, in percent of the nominal value.

@@ -1,0 +1,87 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"image/png"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"regexp"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+)
+
+func chromium(t *testing.T) string {
+	for _, c := range []string{"chromium", "chromium-browser"} {
+		if p, err := exec.LookPath(c); err == nil {
+			return p
+		}
+	}
+	if os.Getenv("CI") != "" {
+		t.Fatal("chromium is required in CI (.ci/run installs Debian's chromium)")
+	}
+	t.Skip("chromium not installed: apt-get install chromium to run the browser test")
+	return ""
+}
+
+func chromiumArgs(dir string) []string {
+	return []string{"--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+		"--disable-background-networking", "--disable-component-update", "--disable-sync", "--user-data-dir=" + dir}
+}
+
+// The report renders in a real browser with its summary table and a plot visible.
+func TestReportInBrowser(t *testing.T) {
+	bin := chromium(t)
+	dir := t.TempDir()
+	code, out, stderr := runCmd("demo", "--out", dir)
+	require.Equal(t, exitOK, code, out+stderr)
+	report := filepath.Join(dir, "report", "report.html")
+	html := mustRead(t, report)
+	// A probe script reports what the page shows: element boxes and visibility.
+	probe := `<script>window.addEventListener('load',function(){
+function vis(el){if(!el)return false;var r=el.getBoundingClientRect();var s=getComputedStyle(el);return r.width>50&&r.height>20&&s.visibility!=='hidden'&&s.display!=='none';}
+var svg=document.querySelector('.plot svg');
+document.title='PROBE summary='+vis(document.getElementById('summary-table'))+' plot='+vis(svg)+' safety='+vis(document.getElementById('safety'));
+});</script>`
+	probed := filepath.Join(dir, "report", "probe.html")
+	require.NoError(t, os.WriteFile(probed, bytes.Replace(html, []byte("</body>"), []byte(probe+"</body>"), 1), 0o644))
+	ctx, cancel := context.WithTimeout(context.Background(), 90*time.Second)
+	defer cancel()
+	args := append(chromiumArgs(filepath.Join(dir, "profile")), "--virtual-time-budget=5000", "--dump-dom", "file://"+probed)
+	dom, err := exec.CommandContext(ctx, bin, args...).Output()
+	require.NoError(t, err)
+	m := regexp.MustCompile(`<title>PROBE ([^<]*)</title>`).FindSubmatch(dom)
+	require.NotNil(t, m, "probe ran")
+	assert.Equal(t, "summary=true plot=true safety=true", string(m[1]))
+
+	shot := filepath.Join(dir, "report.png")
+	args = append(chromiumArgs(filepath.Join(dir, "profile2")), "--window-size=1280,1600", "--screenshot="+shot, "file://"+report)
+	_, err = exec.CommandContext(ctx, bin, args...).CombinedOutput()
+	require.NoError(t, err)
+	f, err := os.Open(shot)
+	require.NoError(t, err)
+	defer f.Close()
+	img, err := png.Decode(f)
+	require.NoError(t, err)
+	// Not a blank page: count non-white pixels.
+	b := img.Bounds()
+	ink := 0
+	for y := b.Min.Y; y < b.Max.Y; y += 4 {
+		for x := b.Min.X; x < b.Max.X; x += 4 {
+			r, g, bl, _ := img.At(x, y).RGBA()
+			if r < 0xe000 || g < 0xe000 || bl < 0xe000 {
+				ink++
+			}
+		}
+	}
+	assert.Greater(t, ink, 2000, "the screenshot shows content")
+	if keep := os.Getenv("HVSHOT_KEEP_SCREENSHOT"); keep != "" {
+		os.WriteFile(keep, mustRead(t, shot), 0o644)
+	}
+	assert.True(t, strings.Contains(string(html), "High voltage kills"))
+}
