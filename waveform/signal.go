@@ -27,12 +27,17 @@ func PreTriggerLen(x []float64) int {
 	head := append([]float64(nil), x[:m]...)
 	sort.Float64s(head)
 	b0 := head[m/2]
-	peak := 0.0
-	for _, v := range x {
-		if d := math.Abs(v - b0); d > peak {
-			peak = d
+	// The largest excursion sets the onset threshold; every fourth sample finds it to
+	// well within the 2 % it is used at, unless the event is shorter than 4 samples.
+	hi, lo := b0, b0
+	for i := 0; i < len(x); i += 4 {
+		if v := x[i]; v > hi {
+			hi = v
+		} else if v < lo {
+			lo = v
 		}
 	}
+	peak := math.Max(hi-b0, b0-lo)
 	if peak == 0 {
 		return len(x)
 	}
@@ -78,13 +83,18 @@ func EstimateBaseline(x []float64, n int) Baseline {
 
 // Extreme returns the index and value of the sample farthest from zero.
 func Extreme(x []float64) (int, float64) {
-	best, bi := 0.0, 0
+	hi, lo, ih, il := 0.0, 0.0, 0, 0
 	for i, v := range x {
-		if math.Abs(v) > math.Abs(best) {
-			best, bi = v, i
+		if v > hi {
+			hi, ih = v, i
+		} else if v < lo {
+			lo, il = v, i
 		}
 	}
-	return bi, best
+	if -lo > hi {
+		return il, lo
+	}
+	return ih, hi
 }
 
 // ArgMax returns the index and value of the largest sample in x[from:to].

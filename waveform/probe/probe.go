@@ -70,6 +70,38 @@ type CurrentResult struct {
 	Action_a2s      float64
 	EndPct          float64 // current at the record's end, percent of the peak
 	Warnings        []Warning
+
+	sums *sums // filled by a fused pass, else computed by currentParams
+}
+
+// sums gathers, sample by sample, what the current parameters need besides crossings.
+type sums struct {
+	hi, lo     float64
+	ih, il     int
+	q, a, dmax float64
+	prev       float64
+}
+
+func (s *sums) add(i int, c float64, cur []float64) {
+	if c > s.hi {
+		s.hi, s.ih = c, i
+	} else if c < s.lo {
+		s.lo, s.il = c, i
+	}
+	if i > 0 {
+		s.q += s.prev + c
+		s.a += s.prev*s.prev + c*c
+	}
+	if i > 1 {
+		d := c - cur[i-2]
+		if d < 0 {
+			d = -d
+		}
+		if d > s.dmax {
+			s.dmax = d
+		}
+	}
+	s.prev = c
 }
 
 func warn(ws *[]Warning, code, format string, a ...any) {
@@ -95,33 +127,102 @@ func (c Coil) Current(v []float64, t0, dt float64) (*CurrentResult, error) {
 	n := len(v)
 	res := &CurrentResult{}
 	bl := preTrigger(v)
-	x := make([]float64, n)
-	for i, s := range v {
-		x[i] = s - bl.Level
-	}
-	integ := waveform.CumTrapz(x, dt, nil)
 	kInt := 1 + c.Rc_ohm/c.R_ohm
 	kV := c.L_h/c.R_ohm + c.Rc_ohm*c.C_f
 	kD := c.L_h * c.C_f
-	vt := x
+	cur := make([]float64, n)
+	// The V and dV/dt terms read from vt: the signal itself, or a low-passed copy.
+	var vt []float64
 	if c.Bandwidth_hz > 0 && (kV > 0 || kD > 0) {
-		vt = append([]float64(nil), x...)
+		vt = make([]float64, n)
+		for i, s := range v {
+			vt[i] = s - bl.Level
+		}
 		waveform.ZeroPhaseLowPass(vt, dt, 1/(2*math.Pi*c.Bandwidth_hz))
 		warn(&res.Warnings, "v-terms-lowpassed", "the V and dV/dt terms were low-passed to %.3g MHz to keep noise down", c.Bandwidth_hz/1e6)
 	}
-	var dv []float64
-	if kD > 0 {
-		dv = waveform.Derivative(vt, dt, nil)
-	}
-	cur := make([]float64, n)
-	for i := range cur {
-		m := kInt*integ[i] + kV*vt[i]
-		if dv != nil {
-			m += kD * dv[i]
+	// One pass: running trapezoid of V, plus the V and dV/dt terms.
+	invM, h, acc := 1/c.M_h, dt/2, 0.0
+	prev := v[0] - bl.Level
+	if vt == nil && kD == 0 {
+		// The common coil: fuse the reconstruction with the sums and extremes the
+		// parameters need, so a long record is read once.
+		// Locals, not the struct, so the loop keeps them in registers. The first two
+		// samples start the sums; from the third on, the loop adds the trapezoid pair
+		// (i-1, i) and the central difference cur[i] - cur[i-2].
+		base, k, kI := bl.Level, kV*invM, kInt*invM
+		var hi, lo, q, a, dmax float64
+		var ih, il int
+		for i := 0; i < n && i < 2; i++ {
+			x := v[i] - base
+			if i > 0 {
+				acc += (prev + x) * h
+			}
+			prev = x
+			cur[i] = kI*acc + k*x
 		}
-		cur[i] = m / c.M_h
+		for i := 0; i < n && i < 2; i++ {
+			if c := cur[i]; c > hi {
+				hi, ih = c, i
+			} else if c < lo {
+				lo, il = c, i
+			}
+		}
+		if n > 1 {
+			q, a = cur[0]+cur[1], cur[0]*cur[0]+cur[1]*cur[1]
+		}
+		p2, p1 := 0.0, 0.0
+		if n > 1 {
+			p2, p1 = cur[0], cur[1]
+		}
+		for i := 2; i < n; i++ {
+			x := v[i] - base
+			acc += (prev + x) * h
+			prev = x
+			c := kI*acc + k*x
+			cur[i] = c
+			if c > hi {
+				hi, ih = c, i
+			} else if c < lo {
+				lo, il = c, i
+			}
+			q += p1 + c
+			a += p1*p1 + c*c
+			if d := math.Abs(c - p2); d > dmax {
+				dmax = d
+			}
+			p2, p1 = p1, c
+		}
+		res.Current = cur
+		res.sums = &sums{hi: hi, lo: lo, ih: ih, il: il, q: q, a: a, dmax: dmax}
+	} else {
+		src := vt
+		if src == nil {
+			src = make([]float64, n)
+			for i, s := range v {
+				src[i] = s - bl.Level
+			}
+		}
+		var dv []float64
+		if kD > 0 {
+			dv = waveform.Derivative(src, dt, nil)
+		}
+		for i, s := range v {
+			x := s - bl.Level
+			if i > 0 {
+				acc += (prev + x) * h
+			}
+			prev = x
+			m := kInt*acc + kV*src[i]
+			if dv != nil {
+				m += kD * dv[i]
+			}
+			cur[i] = m * invM
+		}
 	}
-	res.Current = cur
+	if res.Current == nil {
+		res.Current = cur
+	}
 	// noise lift by the V term against the integral's own
 	if bl.NoiseRMS > 0 && kV > 0 {
 		vNoise := kV * bl.NoiseRMS / c.M_h
@@ -156,14 +257,20 @@ func CalibratedCoil(v []float64, t0, dt, k_a_per_vs, tauLR_s float64) (*CurrentR
 func currentParams(r *CurrentResult, t0, dt, driftScale float64) error {
 	cur := r.Current
 	n := len(cur)
-	ip, pk := waveform.Extreme(cur)
+	st := r.sums
+	if st == nil {
+		st = &sums{}
+		for i, c := range cur {
+			st.add(i, c, cur)
+		}
+	}
+	ip, pk := st.ih, st.hi
+	if -st.lo > st.hi {
+		ip, pk = st.il, st.lo
+	}
 	r.Polarity = 1
 	if pk < 0 {
 		r.Polarity = -1
-	}
-	mag := make([]float64, n)
-	for i, v := range cur {
-		mag[i] = float64(r.Polarity) * v
 	}
 	r.PeakA = math.Abs(pk)
 	if r.PeakA == 0 {
@@ -174,32 +281,37 @@ func currentParams(r *CurrentResult, t0, dt, driftScale float64) error {
 	for _, p := range []*float64{&r.Rise_s, &r.Front_s, &r.Origin_s, &r.TimeToHalf_s} {
 		*p = math.NaN()
 	}
-	t10 := waveform.LastCrossUp(mag, 0.1*r.PeakA, 0, ip+1)
-	t90 := waveform.CrossUp(mag, 0.9*r.PeakA, int(math.Max(0, t10)), ip+1)
+	// Crossings on the magnitude: flip a negative current in place and back after.
+	if r.Polarity < 0 {
+		negate(cur)
+	}
+	t10 := waveform.LastCrossUp(cur, 0.1*r.PeakA, 0, ip+1)
+	t90 := waveform.CrossUp(cur, 0.9*r.PeakA, int(math.Max(0, t10)), ip+1)
 	if t10 >= 0 && t90 >= 0 {
 		r.Rise_s = (t90 - t10) * dt
 		r.Front_s = 1.25 * r.Rise_s
 		r.Origin_s = at(t10) - 0.1*r.Front_s
-		if t50 := waveform.CrossDown(mag, 0.5*r.PeakA, ip, n); t50 >= 0 {
+		if t50 := waveform.CrossDown(cur, 0.5*r.PeakA, ip, n); t50 >= 0 {
 			r.TimeToHalf_s = at(t50) - r.Origin_s
 		}
 	}
-	d := waveform.Derivative(cur, dt, nil)
-	for _, v := range d {
-		r.MaxDidt_a_per_s = math.Max(r.MaxDidt_a_per_s, math.Abs(v))
+	if r.Polarity < 0 {
+		negate(cur)
 	}
-	var q, a float64
-	for i := 1; i < n; i++ {
-		q += (cur[i-1] + cur[i]) * dt / 2
-		a += (cur[i-1]*cur[i-1] + cur[i]*cur[i]) * dt / 2
-	}
-	r.Charge_c = math.Abs(q)
-	r.Action_a2s = a
+	r.MaxDidt_a_per_s = st.dmax / (2 * dt)
+	r.Charge_c = math.Abs(st.q * dt / 2)
+	r.Action_a2s = st.a * dt / 2
 	r.EndPct = 100 * math.Abs(cur[n-1]) / r.PeakA
 	if r.EndPct > 5 {
 		warn(&r.Warnings, "integration-drift", "the current at the record's end is %.2g %% of the peak: integration drift, or the record ends before the current does (pre-trigger noise alone would give %.2g %%)", r.EndPct, 100*driftScale/r.PeakA)
 	}
 	return nil
+}
+
+func negate(x []float64) {
+	for i := range x {
+		x[i] = -x[i]
+	}
 }
 
 // Antenna is a short E-field antenna: effective height h_eff and capacitance C_a,
@@ -265,13 +377,13 @@ func (a Antenna) Field(v []float64, t0, dt float64) (*FieldResult, error) {
 	}
 	res := &FieldResult{}
 	bl := preTrigger(v)
-	x := make([]float64, len(v))
-	for i, s := range v {
-		x[i] = s - bl.Level
-	}
 	tau := a.Tau_s
 	switch {
 	case a.EstimateTau:
+		x := make([]float64, len(v))
+		for i, s := range v {
+			x[i] = s - bl.Level
+		}
 		t, rms, err := EstimateDroop(x, dt, a.TailStart_s-t0, bl.NoiseRMS)
 		if err != nil {
 			return nil, err
@@ -284,13 +396,29 @@ func (a Antenna) Field(v []float64, t0, dt float64) (*FieldResult, error) {
 		return nil, fmt.Errorf("no droop time constant: give tau, R and the capacitances, or ask for an estimate")
 	}
 	res.Tau_s = tau
-	integ := waveform.CumTrapz(x, dt, nil)
-	e := make([]float64, len(x))
-	for i := range e {
-		e[i] = (x[i] + integ[i]/tau) / g
+	// One pass: E = (V + running integral of V / tau) / G.
+	e := make([]float64, len(v))
+	ig, k, acc := 1/g, dt/(2*tau), 0.0
+	prev := v[0] - bl.Level
+	hi, lo, ih, il := 0.0, 0.0, 0, 0
+	for i, s := range v {
+		x := s - bl.Level
+		acc += (prev + x) * k
+		prev = x
+		f := (x + acc) * ig
+		e[i] = f
+		if f > hi {
+			hi, ih = f, i
+		} else if f < lo {
+			lo, il = f, i
+		}
 	}
 	res.Field = e
-	ip, pk := waveform.Extreme(e)
+	integEnd := acc * tau
+	ip, pk := ih, hi
+	if -lo > hi {
+		ip, pk = il, lo
+	}
 	if pk == 0 {
 		return nil, fmt.Errorf("%w: the field is zero throughout", ErrNoSignal)
 	}
@@ -303,7 +431,7 @@ func (a Antenna) Field(v []float64, t0, dt float64) (*FieldResult, error) {
 	res.EndChangeVPerM = end
 	// 10 % error in tau: the late field moves by integral/(G tau) x (1/1.1 - 1).
 	if end != 0 {
-		d := integ[len(integ)-1] / (g * tau) * (1/1.1 - 1)
+		d := integEnd / (g * tau) * (1/1.1 - 1)
 		res.SensitivityPct = 100 * math.Abs(d/end)
 		warn(&res.Warnings, "tau-sensitivity", "a 10 %% error in the droop time constant changes the field at the record's end by %.2g %%", res.SensitivityPct)
 	}

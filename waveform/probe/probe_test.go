@@ -1,0 +1,198 @@
+package probe
+
+import (
+	"encoding/json"
+	"math"
+	"os"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/hvshot/hvshot/readers"
+)
+
+// References from testdata/reference/probe_refs.py: circuits simulated with SciPy's
+// solve_ivp (Radau), mutual inductances by SciPy's dblquad (Debian python3-scipy).
+type probeRefs struct {
+	Coil map[string]struct {
+		M, L, Rc, R, C float64
+		Peak           float64 `json:"peak_a"`
+	} `json:"coil"`
+	Antenna map[string]struct {
+		Gain float64 `json:"gain"`
+		Tau  float64 `json:"tau_s"`
+		Peak float64 `json:"peak_v_per_m"`
+	} `json:"antenna"`
+	Mutual struct {
+		Turns float64 `json:"turns"`
+		Rect  struct {
+			H, R1, R2, M float64
+		} `json:"rect"`
+		Circ struct {
+			A, D, M float64
+		} `json:"circular"`
+		Small struct {
+			S, D, M float64
+		} `json:"small_square"`
+	} `json:"mutual"`
+}
+
+func loadProbeRefs(t testing.TB) probeRefs {
+	b, err := os.ReadFile("../../testdata/reference/probe_refs.json")
+	require.NoError(t, err)
+	var raw map[string]json.RawMessage
+	require.NoError(t, json.Unmarshal(b, &raw))
+	var r probeRefs
+	var coil map[string]map[string]float64
+	require.NoError(t, json.Unmarshal(raw["coil"], &coil))
+	r.Coil = map[string]struct {
+		M, L, Rc, R, C float64
+		Peak           float64 `json:"peak_a"`
+	}{}
+	for k, v := range coil {
+		r.Coil[k] = struct {
+			M, L, Rc, R, C float64
+			Peak           float64 `json:"peak_a"`
+		}{v["M_h"], v["L_h"], v["Rc_ohm"], v["R_ohm"], v["C_f"], v["peak_a"]}
+	}
+	require.NoError(t, json.Unmarshal(raw["antenna"], &r.Antenna))
+	var mu map[string]map[string]float64
+	var mraw map[string]json.RawMessage
+	require.NoError(t, json.Unmarshal(raw["mutual"], &mraw))
+	require.NoError(t, json.Unmarshal(mraw["turns"], &r.Mutual.Turns))
+	delete(mraw, "turns")
+	mu = map[string]map[string]float64{}
+	for k, v := range mraw {
+		var m map[string]float64
+		require.NoError(t, json.Unmarshal(v, &m))
+		mu[k] = m
+	}
+	r.Mutual.Rect.H, r.Mutual.Rect.R1, r.Mutual.Rect.R2, r.Mutual.Rect.M = mu["rect"]["height_m"], mu["rect"]["r1_m"], mu["rect"]["r2_m"], mu["rect"]["m_h"]
+	r.Mutual.Circ.A, r.Mutual.Circ.D, r.Mutual.Circ.M = mu["circular"]["radius_m"], mu["circular"]["dist_m"], mu["circular"]["m_h"]
+	r.Mutual.Small.S, r.Mutual.Small.D, r.Mutual.Small.M = mu["small_square"]["side_m"], mu["small_square"]["dist_m"], mu["small_square"]["m_h"]
+	return r
+}
+
+func loadCase(t *testing.T, name string) (t0, dt float64, v, truth []float64) {
+	rec, err := readers.ReadFile("../../testdata/reference/"+name+".npy", readers.Options{})
+	require.NoError(t, err)
+	require.Len(t, rec.Channels, 2)
+	return rec.Start_s, rec.Interval_s, rec.Channels[0].Samples, rec.Channels[1].Samples
+}
+
+func rmsRel(got, want []float64) float64 {
+	var e, s float64
+	for i := range want {
+		d := got[i] - want[i]
+		e += d * d
+		s += want[i] * want[i]
+	}
+	return math.Sqrt(e / s)
+}
+
+func TestCoilAgainstSolveIVP(t *testing.T) {
+	refs := loadProbeRefs(t)
+	require.Len(t, refs.Coil, 4)
+	for name, c := range refs.Coil {
+		t.Run(name, func(t *testing.T) {
+			t0, dt, v, want := loadCase(t, "coil_"+name)
+			res, err := Coil{M_h: c.M, L_h: c.L, Rc_ohm: c.Rc, R_ohm: c.R, C_f: c.C}.Current(v, t0, dt)
+			require.NoError(t, err)
+			// Within 1 % of the known peak and 2 % RMS over the record.
+			assert.InEpsilon(t, c.Peak, res.PeakA, 0.01)
+			assert.Less(t, rmsRel(res.Current, want), 0.02)
+			// charge and action integrals of the simulated current, trapezoid
+			var q, a float64
+			for i := 1; i < len(want); i++ {
+				q += (want[i-1] + want[i]) * dt / 2
+				a += (want[i-1]*want[i-1] + want[i]*want[i]) * dt / 2
+			}
+			assert.InEpsilon(t, math.Abs(q), res.Charge_c, 0.02)
+			assert.InEpsilon(t, a, res.Action_a2s, 0.02)
+		})
+	}
+}
+
+func TestAntennaAgainstSolveIVP(t *testing.T) {
+	refs := loadProbeRefs(t)
+	for name, a := range refs.Antenna {
+		t.Run(name, func(t *testing.T) {
+			t0, dt, v, want := loadCase(t, "antenna_"+name)
+			res, err := Antenna{Calibration: 1 / a.Gain, Tau_s: a.Tau}.Field(v, t0, dt)
+			require.NoError(t, err)
+			assert.InEpsilon(t, a.Peak, res.PeakVPerM, 0.01)
+			assert.Less(t, rmsRel(res.Field, want), 0.02)
+			assert.InEpsilon(t, a.Peak, res.EndChangeVPerM, 0.01, "a step's field stays")
+			assert.Greater(t, res.SensitivityPct, 1.0)
+		})
+	}
+}
+
+func TestEstimateDroopFromTail(t *testing.T) {
+	// On the step record the tail after the step is a pure exponential with tau 26 us.
+	t0, dt, v, _ := loadCase(t, "antenna_step")
+	tau, rms, err := EstimateDroop(v, dt, 0, 1e-3)
+	require.NoError(t, err)
+	assert.InEpsilon(t, 26e-6, tau, 0.01)
+	assert.Less(t, rms, 0.5)
+	res, err := Antenna{Calibration: 1 / 0.06, EstimateTau: true}.Field(v, t0, dt)
+	require.NoError(t, err)
+	assert.True(t, res.TauEstimated)
+	assert.InEpsilon(t, 15e3, res.PeakVPerM, 0.02)
+	// buried in noise: refuse
+	_, _, err = EstimateDroop(v, dt, 0, 100)
+	assert.ErrorContains(t, err, "buried in noise")
+}
+
+func TestMutualInductance(t *testing.T) {
+	m := loadProbeRefs(t).Mutual
+	// Numerical flux integrals of mu0 I / (2 pi r) over the coil (SciPy dblquad).
+	assert.InEpsilon(t, m.Rect.M, MutualRectangular(m.Turns, m.Rect.H, m.Rect.R1, m.Rect.R2), 1e-9)
+	assert.InEpsilon(t, m.Circ.M, MutualCircular(m.Turns, m.Circ.A, m.Circ.D), 1e-6)
+	// The small-coil form reads low by about a^2/(4 d^2) for a coil of half-size a.
+	small := MutualSmallCoil(m.Turns, m.Small.S*m.Small.S, m.Small.D)
+	a := m.Small.S / 2
+	assert.InEpsilon(t, m.Small.M, small, 2*a*a/(4*m.Small.D*m.Small.D))
+	assert.Less(t, small, m.Small.M)
+	// Handbook form for a rectangle coplanar with a long wire, mu0 N h ln(r2/r1)/(2 pi)
+	// (the standard textbook example, e.g. Halliday, Resnick and Walker; from memory):
+	// 1 turn, 1 m by r2/r1 = e gives mu0/(2 pi) = 2e-7 H.
+	assert.InEpsilon(t, 2e-7, MutualRectangular(1, 1, 1, math.E), 1e-9)
+}
+
+func TestWhipDroopSanity(t *testing.T) {
+	// Common practice, no source: a 1 Mohm scope input with tens of pF and a short
+	// whip droops within hundreds of microseconds.
+	_, ca := Whip(0.5, 0.002)
+	tau := 1e6 * (ca + 30e-12)
+	assert.Greater(t, tau, 10e-6)
+	assert.Less(t, tau, 1e-3)
+}
+
+func BenchmarkReconstruct1M(b *testing.B) {
+	n := 1_000_000
+	v := make([]float64, n)
+	for i := range v {
+		if i > 1000 {
+			x := float64(i-1000) * 1e-9
+			v[i] = math.Exp(-x/5e-6) * math.Sin(2*math.Pi*3e5*x)
+		}
+	}
+	b.Run("coil", func(b *testing.B) {
+		c := Coil{M_h: 1e-9, L_h: 50e-9, R_ohm: 50}
+		for i := 0; i < b.N; i++ {
+			if _, err := c.Current(v, 0, 1e-9); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+	b.Run("antenna", func(b *testing.B) {
+		a := Antenna{Calibration: 10, Tau_s: 26e-6}
+		for i := 0; i < b.N; i++ {
+			if _, err := a.Field(v, 0, 1e-9); err != nil {
+				b.Fatal(err)
+			}
+		}
+	})
+}
