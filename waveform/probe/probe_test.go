@@ -103,15 +103,15 @@ func TestCoilAgainstSolveIVP(t *testing.T) {
 			assert.InEpsilon(t, c.Peak, res.PeakA, 0.01)
 			assert.Less(t, rmsRel(res.Current, want), 0.02)
 			// charge and action integrals of the simulated current, trapezoid
-			// (a damped sine's net charge nearly cancels: judge it against the charge
-			// moved either way)
-			var q, qa, a float64
+			// A damped sine's net charge nearly cancels, so its error is judged as a
+			// current offset: at most 0.5 % of the peak over the record. (The simulated
+			// sine starts with a jump in dI/dt, which sampling turns into a small offset.)
+			var q, a float64
 			for i := 1; i < len(want); i++ {
 				q += (want[i-1] + want[i]) * dt / 2
-				qa += (math.Abs(want[i-1]) + math.Abs(want[i])) * dt / 2
 				a += (want[i-1]*want[i-1] + want[i]*want[i]) * dt / 2
 			}
-			assert.InDelta(t, math.Abs(q), res.Charge_c, 0.02*qa)
+			assert.InDelta(t, math.Abs(q), res.Charge_c, 0.005*c.Peak*float64(len(want))*dt)
 			assert.InEpsilon(t, a, res.Action_a2s, 0.02)
 		})
 	}
