@@ -16,7 +16,11 @@ import (
 // WriteText writes rec as comma-separated text that ReadText reads back exactly: a
 // preamble of '#' key: value lines (the record's metadata), a header with units, and a
 // time column. Values use the shortest representation that round-trips.
-func WriteText(w io.Writer, rec *waveform.Record) error {
+func WriteText(w io.Writer, rec *waveform.Record) error { return WriteTextDigits(w, rec, -1) }
+
+// WriteTextDigits is WriteText with values rounded to the given significant digits
+// (-1: exact). Nine digits are more than any scope's ADC resolves and read faster.
+func WriteTextDigits(w io.Writer, rec *waveform.Record, digits int) error {
 	bw := bufio.NewWriterSize(w, 1<<16)
 	keys := make([]string, 0, len(rec.Meta))
 	for k := range rec.Meta {
@@ -38,10 +42,14 @@ func WriteText(w io.Writer, rec *waveform.Record) error {
 	bw.WriteByte('\n')
 	var buf []byte
 	for i := 0; i < rec.Len(); i++ {
-		buf = strconv.AppendFloat(buf[:0], rec.Time_s(i), 'g', -1, 64)
+		tdig := digits
+		if tdig > 0 {
+			tdig += 3 // times need the extra digits to stay uniform over long records
+		}
+		buf = strconv.AppendFloat(buf[:0], rec.Time_s(i), 'g', tdig, 64)
 		for _, c := range rec.Channels {
 			buf = append(buf, ',')
-			buf = strconv.AppendFloat(buf, c.Samples[i], 'g', -1, 64)
+			buf = strconv.AppendFloat(buf, c.Samples[i], 'g', digits, 64)
 		}
 		buf = append(buf, '\n')
 		bw.Write(buf)

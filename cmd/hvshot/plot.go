@@ -13,6 +13,8 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
 
 	"github.com/hvshot/hvshot/fit"
 	"github.com/hvshot/hvshot/waveform"
@@ -60,18 +62,28 @@ func max2(a, b int) int {
 	return b
 }
 
-func savePlot(cfg *Config, p *plot.Plot, file, label string) string {
+// savePlot draws the plots side by side into one file of the configured format.
+func savePlot(cfg *Config, file, label string, ps ...*plot.Plot) string {
 	if cfg.Plots == "none" || cfg.OutDir == "" {
 		return ""
 	}
 	ext := cfg.Plots
 	rel := filepath.Join("plots", unsafeName.ReplaceAllString(shotName(file)+"_"+label, "_")+"."+ext)
-	w, err := p.WriterTo(18*vg.Centimeter, 10*vg.Centimeter, ext)
-	if err != nil {
-		return ""
+	width, height := vg.Length(len(ps))*13*vg.Centimeter, 10*vg.Centimeter
+	var c vg.CanvasWriterTo
+	if ext == "png" {
+		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}
+	} else {
+		c = vgsvg.New(width, height)
+	}
+	dc := draw.New(c)
+	tiles := draw.Tiles{Rows: 1, Cols: len(ps), PadX: vg.Millimeter * 4}
+	canv := plot.Align([][]*plot.Plot{ps}, tiles, dc)
+	for i, p := range ps {
+		p.Draw(canv[0][i])
 	}
 	var buf bytes.Buffer
-	if _, err := w.WriteTo(&buf); err != nil {
+	if _, err := c.WriteTo(&buf); err != nil {
 		return ""
 	}
 	if err := os.MkdirAll(filepath.Join(cfg.OutDir, "plots"), 0o755); err != nil {
@@ -105,58 +117,93 @@ func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse
 	if cfg.Plots == "none" || cfg.OutDir == "" {
 		return ""
 	}
-	p := plot.New()
-	p.Title.Text = fmt.Sprintf("%s  %s  (%s)", shotName(file), label, r.Shape)
-	p.X.Label.Text = "time (us)"
-	p.Y.Label.Text = "voltage (kV, polarity made positive)"
 	const ts, vs = 1e6, 1e-3
 	n := len(r.Recorded)
-	p.Add(plotter.NewGrid())
-	rec := line(decimate(r.Start_s, r.Interval_s, r.Recorded, ts, vs, 3000), colRecorded, vg.Points(1))
-	p.Add(rec)
-	p.Legend.Add("recorded", rec)
-	if r.FitOK {
-		b := line(decimate(r.Start_s, r.Interval_s, r.Base, ts, vs, 3000), colBase, vg.Points(1), vg.Points(4), vg.Points(2))
-		p.Add(b)
-		p.Legend.Add("base curve", b)
+	end := r.Start_s + float64(n-1)*r.Interval_s
+	// Left: the front, from a little before O1 to a few front times after it. Right:
+	// the whole impulse, up to a little past T2 (or the chop, or the record's end).
+	o1 := r.Origin_s
+	if math.IsNaN(o1) {
+		o1 = r.T30_s
 	}
-	tv := line(decimate(r.Start_s, r.Interval_s, r.TestVoltage, ts, vs, 3000), colTest, vg.Points(1.2))
-	p.Add(tv)
-	p.Legend.Add("test voltage curve", tv)
-	// tolerance band: the nominal shape's extremes, aligned at O1, scaled to Ut
-	if !math.IsNaN(r.Origin_s) && r.Shape != impulse.Switching && nom.Front_s > 0 {
-		for i, k := range [][2]float64{{1 - cfg.Tol.FrontPct/100, 1 - cfg.Tol.TailPct/100}, {1 + cfg.Tol.FrontPct/100, 1 + cfg.Tol.TailPct/100}} {
-			sh, err := fit.ForLightning(nom.Front_s*k[0], nom.Tail_s*k[1])
-			if err != nil {
-				continue
-			}
-			a30 := sh.LevelDelay_s(0.3, true)
-			a90 := sh.LevelDelay_s(0.9, true)
-			o1 := a30 - 0.3*1.67*(a90-a30)
-			sh.Td_s = r.Origin_s - o1
-			sh.U = r.TestVoltageV / sh.PeakFactor()
-			y := make([]float64, n)
-			sh.Eval(r.Start_s, r.Interval_s, y)
-			l := line(decimate(r.Start_s, r.Interval_s, y, ts, vs, 1500), colBand, vg.Points(0.8), vg.Points(2), vg.Points(2))
-			p.Add(l)
-			if i == 0 {
-				p.Legend.Add(fmt.Sprintf("tolerance limits of %s", nom), l)
+	span := 6 * r.FrontTime_s
+	if math.IsNaN(span) || span <= 0 {
+		span = 6 * (r.T90_s - r.T30_s)
+	}
+	frontLo, frontHi := math.Max(r.Start_s, o1-0.3*span), math.Min(end, o1+span)
+	if r.Shape == impulse.LightningChopped && !math.IsNaN(r.ChopInstant_s) {
+		frontHi = math.Min(end, math.Max(frontHi, r.ChopInstant_s+0.3*(r.ChopInstant_s-o1)))
+	}
+	fullHi := end
+	if !math.IsNaN(r.T50_s) {
+		fullHi = math.Min(end, r.T50_s+0.6*(r.T50_s-o1))
+	}
+	build := func(lo, hi float64, legend bool, title string) *plot.Plot {
+		p := plot.New()
+		p.Title.Text = title
+		p.X.Label.Text = "time (us)"
+		p.Y.Label.Text = "voltage (kV, polarity made positive)"
+		p.Add(plotter.NewGrid())
+		i0 := max2(0, int((lo-r.Start_s)/r.Interval_s))
+		i1 := min(n, int((hi-r.Start_s)/r.Interval_s)+2)
+		t0 := r.Start_s + float64(i0)*r.Interval_s
+		seg := func(y []float64) plotter.XYs { return decimate(t0, r.Interval_s, y[i0:i1], ts, vs, 2500) }
+		rec := line(seg(r.Recorded), colRecorded, vg.Points(1))
+		p.Add(rec)
+		if legend {
+			p.Legend.Add("recorded", rec)
+		}
+		if r.FitOK {
+			b := line(seg(r.Base), colBase, vg.Points(1), vg.Points(4), vg.Points(2))
+			p.Add(b)
+			if legend {
+				p.Legend.Add("base curve", b)
 			}
 		}
-	}
-	var pts plotter.XYs
-	for _, m := range []struct{ t, f float64 }{{r.T30_s, 0.3}, {r.T90_s, 0.9}, {r.T50_s, 0.5}, {r.Origin_s, 0}} {
-		if !math.IsNaN(m.t) {
-			pts = append(pts, plotter.XY{X: m.t * ts, Y: m.f * r.TestVoltageV * vs})
+		tv := line(seg(r.TestVoltage), colTest, vg.Points(1.2))
+		p.Add(tv)
+		if legend {
+			p.Legend.Add("test voltage curve", tv)
 		}
-	}
-	if len(pts) > 0 {
-		sc, _ := plotter.NewScatter(pts)
-		sc.GlyphStyle.Color = colMark
-		sc.GlyphStyle.Radius = vg.Points(3)
-		sc.GlyphStyle.Shape = draw.CircleGlyph{}
-		p.Add(sc)
-		p.Legend.Add("30/90/50 % points and O1", sc)
+		// tolerance limits: the nominal's fastest and slowest shapes, at O1, scaled to Ut
+		if !math.IsNaN(r.Origin_s) && r.Shape != impulse.Switching && nom.Front_s > 0 {
+			for i, k := range [][2]float64{{1 - cfg.Tol.FrontPct/100, 1 - cfg.Tol.TailPct/100}, {1 + cfg.Tol.FrontPct/100, 1 + cfg.Tol.TailPct/100}} {
+				sh, err := fit.ForLightning(nom.Front_s*k[0], nom.Tail_s*k[1])
+				if err != nil {
+					continue
+				}
+				a30, a90 := sh.LevelDelay_s(0.3, true), sh.LevelDelay_s(0.9, true)
+				sh.Td_s = r.Origin_s - (a30 - 0.3*1.67*(a90-a30))
+				sh.U = r.TestVoltageV / sh.PeakFactor()
+				y := make([]float64, i1-i0)
+				sh.Eval(t0, r.Interval_s, y)
+				l := line(decimate(t0, r.Interval_s, y, ts, vs, 1500), colBand, vg.Points(0.8), vg.Points(2), vg.Points(2))
+				p.Add(l)
+				if legend && i == 0 {
+					p.Legend.Add(fmt.Sprintf("tolerance limits of %s", nom), l)
+				}
+			}
+		}
+		var pts plotter.XYs
+		for _, m := range []struct{ t, f float64 }{{r.T30_s, 0.3}, {r.T90_s, 0.9}, {r.T50_s, 0.5}, {r.Origin_s, 0}} {
+			if !math.IsNaN(m.t) && m.t >= lo && m.t <= hi {
+				pts = append(pts, plotter.XY{X: m.t * ts, Y: m.f * r.TestVoltageV * vs})
+			}
+		}
+		if len(pts) > 0 {
+			sc, _ := plotter.NewScatter(pts)
+			sc.GlyphStyle.Color = colMark
+			sc.GlyphStyle.Radius = vg.Points(3)
+			sc.GlyphStyle.Shape = draw.CircleGlyph{}
+			p.Add(sc)
+			if legend {
+				p.Legend.Add("30/90/50 % points, O1", sc)
+			}
+		}
+		p.X.Min, p.X.Max = lo*ts, hi*ts
+		p.Legend.Top = true
+		p.Legend.TextStyle.Font.Size = vg.Points(7)
+		return p
 	}
 	var note string
 	switch r.Shape {
@@ -167,14 +214,10 @@ func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse
 	default:
 		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f us  T2 %.2f us  overshoot %.1f %%", r.TestVoltageV*vs, r.FrontTime_s*ts, r.TimeToHalf_s*ts, r.OvershootPct)
 	}
-	p.Title.Text += "\n" + note
-	p.Legend.Top = true
-	p.Legend.TextStyle.Font.Size = vg.Points(8)
-	// Show the front and tail up to a little past T2, not the whole record.
-	if !math.IsNaN(r.T50_s) {
-		p.X.Max = math.Min((r.Start_s+float64(n-1)*r.Interval_s)*ts, (r.T50_s+0.6*(r.T50_s-r.Origin_s))*ts)
-	}
-	return savePlot(cfg, p, file, label)
+	name := fmt.Sprintf("%s  %s  (%s)", shotName(file), label, r.Shape)
+	left := build(frontLo, frontHi, false, name+"\nfront")
+	right := build(r.Start_s, fullHi, true, note+"\nwhole impulse")
+	return savePlot(cfg, file, label, left, right)
 }
 
 func plotSensor(cfg *Config, file, label string, rec *waveform.Record, y []float64, ylabel string, scale float64) string {
@@ -187,5 +230,5 @@ func plotSensor(cfg *Config, file, label string, rec *waveform.Record, y []float
 	p.Y.Label.Text = ylabel
 	p.Add(plotter.NewGrid())
 	p.Add(line(decimate(rec.Start_s, rec.Interval_s, y, 1e6, scale, 3000), colBase, vg.Points(1.2)))
-	return savePlot(cfg, p, file, label)
+	return savePlot(cfg, file, label, p)
 }

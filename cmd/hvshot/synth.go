@@ -152,7 +152,8 @@ func writeCapture(path, format string, rec *waveform.Record) error {
 	var b bytes.Buffer
 	switch format {
 	case "text", "csv":
-		if err := readers.WriteText(&b, rec); err != nil {
+		// nine significant digits: beyond any scope's ADC, and quick to read back
+		if err := readers.WriteTextDigits(&b, rec, 9); err != nil {
 			return err
 		}
 	case "npy":
