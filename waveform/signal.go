@@ -287,7 +287,19 @@ func DetectClipping(c *Channel) (Clip, bool) {
 	if math.IsInf(q, 1) {
 		return Clip{}, false
 	}
+	// A run at the level the record rests at (a quiet baseline) is not clipping: only
+	// levels far from the record's typical value count.
+	stride := len(x)/1024 + 1
+	var sample []float64
+	for i := 0; i < len(x); i += stride {
+		sample = append(sample, x[i])
+	}
+	sort.Float64s(sample)
+	typical := sample[len(sample)/2]
 	for _, lvl := range []float64{hi, lo} {
+		if math.Abs(lvl-typical) < 0.25*(hi-lo) {
+			continue
+		}
 		i := 0
 		for i < len(x) {
 			if x[i] != lvl {

@@ -59,7 +59,7 @@ func demoShots() []demoShot {
 	add("shot05.npy", "npy", s)
 	add("shot06.csv", "text", base(1.85, 52.0, 148.8, 6)) // slow front
 	s = base(1.10, 49.0, 146.0, 7)                        // ringing: overshoot
-	s.OscFreq_hz, s.OscAmp, s.OscDamp_s = 0.6e6, 0.3, 2e-6
+	s.OscFreq_hz, s.OscAmp, s.OscDamp_s = 1.5e6, 0.35, 1.5e-6
 	add("shot07.csv", "text", s)
 	s = base(1.22, 50.0, 150.2, 8) // flashover on the tail
 	s.Chop_s, s.Collapse_s = 4e-6, 80e-9

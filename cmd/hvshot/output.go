@@ -23,6 +23,12 @@ func writeAtomic(path string, data []byte) error {
 		return err
 	}
 	tmp := f.Name()
+	// CreateTemp makes the file private; results are for the whole lab to read.
+	if err := f.Chmod(0o644); err != nil {
+		f.Close()
+		os.Remove(tmp)
+		return err
+	}
 	if _, err := f.Write(data); err != nil {
 		f.Close()
 		os.Remove(tmp)
