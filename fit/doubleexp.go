@@ -290,7 +290,7 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 	// size. Blocks stay below a tenth of the front constant so the td block matters little.
 	blk := 1
 	if n > 16000 {
-		blk = n / 8000
+		blk = n / 4000
 		if lim := int(start.Tau2_s / (10 * dt)); blk > lim {
 			blk = lim
 		}

@@ -86,12 +86,18 @@ func ApplyTestVoltageFunction(x []float64, dt float64) {
 	a, b := x[0], x[n-1]
 	slope := (b - a) / float64(n-1)
 	if dt <= RecursiveTVFMaxInterval_s {
+		// ZeroPhaseLowPass with the line's removal and return fused into its passes.
+		ka := math.Exp(-dt / TestVoltageTau_s)
+		kb := 1 - ka
+		y := 0.0 // x[0] less the line is 0
 		for i := range x {
-			x[i] -= a + slope*float64(i)
+			y = ka*y + kb*(x[i]-(a+slope*float64(i)))
+			x[i] = y
 		}
-		ZeroPhaseLowPass(x, dt, TestVoltageTau_s)
-		for i := range x {
-			x[i] += a + slope*float64(i)
+		y = x[n-1]
+		for i := n - 1; i >= 0; i-- {
+			y = ka*y + kb*x[i]
+			x[i] = y + a + slope*float64(i)
 		}
 		return
 	}
@@ -128,9 +134,18 @@ func DominantFrequency(x []float64, dt, minF_hz float64) (f_hz, amp float64) {
 		mean += v
 	}
 	mean /= float64(n)
+	// Hann window; the cosine by rotation, re-anchored every 1024 samples.
 	var wsum float64
+	th := 2 * math.Pi / float64(n-1)
+	cr, sr := math.Cos(th), math.Sin(th)
+	var c, sn float64
 	for i, v := range x {
-		w := 0.5 - 0.5*math.Cos(2*math.Pi*float64(i)/float64(n-1))
+		if i&1023 == 0 {
+			c, sn = math.Cos(th*float64(i)), math.Sin(th*float64(i))
+		} else {
+			c, sn = c*cr-sn*sr, sn*cr+c*sr
+		}
+		w := 0.5 - 0.5*c
 		wsum += w
 		buf[i] = (v - mean) * w
 	}

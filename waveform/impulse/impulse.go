@@ -145,9 +145,17 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	}
 	r.Baseline = bl
 	r.Noise = bl.NoiseRMS
-	_, ext := waveform.Extreme(shift(x, bl.Level))
+	// polarity: the larger excursion from the baseline
+	hi, lo := x[0], x[0]
+	for _, v := range x {
+		if v > hi {
+			hi = v
+		} else if v < lo {
+			lo = v
+		}
+	}
 	r.Polarity = 1
-	if ext < 0 {
+	if bl.Level-lo > hi-bl.Level {
 		r.Polarity = -1
 	}
 	y := make([]float64, n)
@@ -168,7 +176,9 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	}
 	tailMin := math.Inf(1)
 	for _, v := range y[ip:] {
-		tailMin = math.Min(tailMin, v)
+		if v < tailMin {
+			tailMin = v
+		}
 	}
 	if tailMin > 0.9*ue {
 		return nil, fmt.Errorf("%w: the record never falls below 90 %% after its extreme (a step, or a record far too short)", ErrNoImpulse)
@@ -284,9 +294,9 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		res[i] = y[i] - base[i]
 	}
 	if r.FitOK && to-from > 16 {
-		// Ringing decays within microseconds; 16k samples from the fit start see it
-		// with a resolution far finer than any limit on it.
-		hi := min(to, end, from+16384)
+		// Ringing decays within microseconds; 8k samples from the fit start see it
+		// (resolution 1/(8192 dt), 122 kHz at 1 GS/s).
+		hi := min(to, end, from+8192)
 		f, a := waveform.DominantFrequency(res[from:hi], dt, 2/(float64(hi-from)*dt))
 		if a > 3*bl.NoiseRMS && a > 0.002*ue {
 			r.ResidualFreq_hz, r.ResidualAmpV = f, a
@@ -302,13 +312,17 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	} else {
 		waveform.ApplyTestVoltageFunction(res, dt)
 	}
-	tv := make([]float64, n)
-	for i := range tv {
-		if i < end {
-			tv[i] = base[i] + res[i]
-		} else {
+	// The test voltage curve takes the residual's place (NaN past a chop).
+	tv := res
+	if end < n {
+		tv = make([]float64, n)
+		copy(tv, res)
+		for i := end; i < n; i++ {
 			tv[i] = math.NaN()
 		}
+	}
+	for i := 0; i < end; i++ {
+		tv[i] += base[i]
 	}
 	r.TestVoltage = tv
 	itv, ut := waveform.ArgMax(tv, 0, end)
@@ -423,12 +437,4 @@ func (r *Result) switching(tv []float64, itv int, a30, a90 float64, s Settings) 
 	if z := waveform.CrossDown(tv, 0, itv, n); z >= 0 {
 		r.TimeToZero_s = r.at(z) - origin
 	}
-}
-
-func shift(x []float64, b float64) []float64 {
-	out := make([]float64, len(x))
-	for i, v := range x {
-		out[i] = v - b
-	}
-	return out
 }
