@@ -92,3 +92,23 @@ func TestUsageErrors(t *testing.T) {
 	assert.Equal(t, exitOK, code)
 	_ = out
 }
+
+// A file list on stdin, and an output folder inside the input folder that a second run
+// skips rather than reading its own results as captures.
+func TestStdinListAndOwnOutputSkipped(t *testing.T) {
+	dir := t.TempDir()
+	a, b := filepath.Join(dir, "a.csv"), filepath.Join(dir, "b.csv")
+	writeShot(t, a, spec(1.2, 50, 300e3, 1), "text")
+	writeShot(t, b, spec(1.2, 50, 300e3, 2), "text")
+	var out, errb strings.Builder
+	code := run([]string{"analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(dir, "report"), "-"},
+		strings.NewReader(a+"\n"+b+"\n"), &out, &errb)
+	require.Equal(t, exitOK, code, errb.String())
+	assert.Equal(t, 2, strings.Count(out.String(), "\n"))
+	// again over the whole folder, output elsewhere: report/ and hidden files are skipped
+	require.NoError(t, os.WriteFile(filepath.Join(dir, ".hidden.csv"), []byte("junk"), 0o644))
+	code, stdout, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(dir, "report2"), dir)
+	require.Equal(t, exitOK, code, stderr)
+	assert.Equal(t, 2, strings.Count(stdout, "\n"), stdout)
+	assert.NotContains(t, stdout, "results.csv")
+}
