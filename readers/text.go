@@ -128,8 +128,8 @@ type sniffLine struct {
 	no   int
 }
 
-// Sniff decides the dialect from the first lines of a file (BOM already removed).
-func Sniff(head []byte, complete bool, file string) (Dialect, []sniffLine, error) {
+// sniff decides the dialect from the first lines of a file (BOM already removed).
+func sniff(head []byte, complete bool, file string) (Dialect, []sniffLine, error) {
 	var lines []sniffLine
 	rest := head
 	for no := 1; len(rest) > 0 && len(lines) < 2000; no++ {
@@ -371,7 +371,7 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 	if off := binaryByte(head); off >= 0 {
 		return nil, byteErr(file, int64(off), ErrBinary, "give the raw description (a .hvraw sidecar or --raw flags) if this is a binary capture")
 	}
-	d, lines, err := Sniff(head, complete, file)
+	d, lines, err := sniff(head, complete, file)
 	if err != nil {
 		return nil, err
 	}

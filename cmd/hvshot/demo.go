@@ -2,7 +2,6 @@ package main
 
 import (
 	_ "embed"
-	"errors"
 	"fmt"
 	"io"
 	"math/rand/v2"
@@ -131,11 +130,8 @@ flags:
 `)
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitUsage
+	if code, stop := parseFlags(fs, args); stop {
+		return code
 	}
 	dir := *out
 	if dir == "" {

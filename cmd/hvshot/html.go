@@ -137,17 +137,8 @@ func renderReport(cfg *Config, rows []Row, sum Summary) ([]byte, error) {
 		Mean, SD, Min, Max string
 	}
 	var stats []statRow
-	all := sum.Stats
-	if sum.Efficiency != nil {
-		all = append(all, *sum.Efficiency)
-	}
-	for _, st := range all {
-		k := st.scale
-		if k == 0 {
-			k = 1
-		}
-		f := func(v float64) string { return trimFloat(v * k) }
-		stats = append(stats, statRow{st.Name, st.eunit, st.N, f(st.Mean), f(st.SD), f(st.Min), f(st.Max)})
+	for _, st := range sum.display() {
+		stats = append(stats, statRow{st.Name, st.Unit, st.N, trimFloat(st.Mean), trimFloat(st.SD), trimFloat(st.Min), trimFloat(st.Max)})
 	}
 	nominal := "standard shape of the family found (1.2/50 or 250/2500)"
 	if cfg.HasNominal {

@@ -15,6 +15,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"sort"
 	"strings"
 	"time"
 
@@ -91,6 +92,18 @@ func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	return exitUsage
 }
 
+// parseFlags parses a command's flags; stop says the command should return code now
+// (0 after --help, 64 after a flag error, which pflag has already reported).
+func parseFlags(fs *flag.FlagSet, args []string) (code int, stop bool) {
+	if err := fs.Parse(args); err != nil {
+		if errors.Is(err, flag.ErrHelp) {
+			return exitOK, true
+		}
+		return exitUsage, true
+	}
+	return 0, false
+}
+
 // readFlags are the reading options every command that reads captures shares.
 type readFlags struct {
 	interval   string
@@ -153,11 +166,8 @@ flags:
 `)
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitUsage
+	if code, stop := parseFlags(fs, args); stop {
+		return code
 	}
 	if fs.NArg() == 0 {
 		fs.Usage()
@@ -223,8 +233,13 @@ flags:
 			}
 			fmt.Fprintf(stdout, "  channel   %-12s %-9s min %.6g  max %.6g\n", c.Name, u, c.Min, c.Max)
 		}
-		for k, v := range rec.Meta {
-			fmt.Fprintf(stdout, "  meta      %s: %s\n", k, v)
+		keys := make([]string, 0, len(rec.Meta))
+		for k := range rec.Meta {
+			keys = append(keys, k)
+		}
+		sort.Strings(keys)
+		for _, k := range keys {
+			fmt.Fprintf(stdout, "  meta      %s: %s\n", k, rec.Meta[k])
 		}
 		for _, w := range rec.Warnings {
 			fmt.Fprintf(stdout, "  warning   %s\n", w)
@@ -304,11 +319,8 @@ flags:
 `, name, SetupFileName)
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitUsage
+	if code, stop := parseFlags(fs, args); stop {
+		return code
 	}
 	usage := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "hvshot %s: %s\n", name, fmt.Sprintf(format, a...))

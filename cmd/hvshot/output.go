@@ -278,16 +278,25 @@ func writeSummary(w io.Writer, s Summary) {
 	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	fmt.Fprintln(tw, "  parameter\tn\tmean\tsd\tmin\tmax\tunit")
-	all := s.Stats
+	for _, st := range s.display() {
+		fmt.Fprintf(tw, "  %s\t%d\t%.4g\t%.3g\t%.4g\t%.4g\t%s\n", st.Name, st.N, st.Mean, st.SD, st.Min, st.Max, st.Unit)
+	}
+	tw.Flush()
+}
+
+// display returns every statistic, the efficiency last, in engineering units for
+// screens and the report.
+func (s Summary) display() []Stat {
+	all := append([]Stat(nil), s.Stats...)
 	if s.Efficiency != nil {
 		all = append(all, *s.Efficiency)
 	}
-	for _, st := range all {
-		k := st.scale
+	for i := range all {
+		k := all[i].scale
 		if k == 0 {
 			k = 1
 		}
-		fmt.Fprintf(tw, "  %s\t%d\t%.4g\t%.3g\t%.4g\t%.4g\t%s\n", st.Name, st.N, st.Mean*k, st.SD*k, st.Min*k, st.Max*k, st.eunit)
+		all[i].Mean, all[i].SD, all[i].Min, all[i].Max, all[i].Unit = all[i].Mean*k, all[i].SD*k, all[i].Min*k, all[i].Max*k, all[i].eunit
 	}
-	tw.Flush()
+	return all
 }

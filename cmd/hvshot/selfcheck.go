@@ -3,7 +3,6 @@ package main
 import (
 	_ "embed"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -169,11 +168,8 @@ func cmdSelfcheck(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprint(stderr, "usage: hvshot selfcheck [--json]\nEvaluates built-in reference records (docs/selfcheck.md) and compares each parameter with\nits reference value and acceptance limit. Exit status 1 on any miss.\n")
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitUsage
+	if code, stop := parseFlags(fs, args); stop {
+		return code
 	}
 	lines, err := runSelfcheck()
 	if err != nil {

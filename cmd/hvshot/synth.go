@@ -2,7 +2,6 @@ package main
 
 import (
 	"bytes"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -56,11 +55,8 @@ flags:
 `)
 		fs.PrintDefaults()
 	}
-	if err := fs.Parse(args); err != nil {
-		if errors.Is(err, flag.ErrHelp) {
-			return exitOK
-		}
-		return exitUsage
+	if code, stop := parseFlags(fs, args); stop {
+		return code
 	}
 	fail := func(format string, a ...any) int {
 		fmt.Fprintf(stderr, "hvshot synth: %s\n", fmt.Sprintf(format, a...))

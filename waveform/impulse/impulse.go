@@ -261,8 +261,6 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	for _, k := range []float64{1, 0.5, 2, 0.25} {
 		st := start
 		st.Tau2_s *= k
-		st = fit.StartValues(abs(t30), abs(t90), abs(t50raw), ue)
-		st.Tau2_s *= k
 		if st.Tau1_s < 3*st.Tau2_s {
 			st.Tau1_s = 3 * st.Tau2_s
 		}
