@@ -151,7 +151,7 @@ func (c Coil) Current(v []float64, t0, dt float64) (*CurrentResult, error) {
 		// samples start the sums; from the third on, the loop adds the trapezoid pair
 		// (i-1, i) and the central difference cur[i] - cur[i-2].
 		base, k, kI := bl.Level, kV*invM, kInt*invM
-		var hi, lo, q, a, dmax float64
+		var hi, lo, q, a, dmax, dhi, dlo float64
 		var ih, il int
 		for i := 0; i < n && i < 2; i++ {
 			x := v[i] - base
@@ -188,11 +188,16 @@ func (c Coil) Current(v []float64, t0, dt float64) (*CurrentResult, error) {
 			}
 			q += p1 + c
 			a += p1*p1 + c*c
-			if d := math.Abs(c - p2); d > dmax {
-				dmax = d
+			// largest rise and fall kept apart: rarely-taken branches, where an
+			// absolute value per sample would cost a round trip through the integer unit
+			if d := c - p2; d > dhi {
+				dhi = d
+			} else if d < dlo {
+				dlo = d
 			}
 			p2, p1 = p1, c
 		}
+		dmax = math.Max(dhi, -dlo)
 		res.Current = cur
 		res.sums = &sums{hi: hi, lo: lo, ih: ih, il: il, q: q, a: a, dmax: dmax}
 	} else {

@@ -113,6 +113,13 @@ func TestCoilAgainstSolveIVP(t *testing.T) {
 			}
 			assert.InDelta(t, math.Abs(q), res.Charge_c, 0.005*c.Peak*float64(len(want))*dt)
 			assert.InEpsilon(t, a, res.Action_a2s, 0.02)
+			// peak di/dt against the central differences of the simulated current
+			var dmax float64
+			for i := 1; i+1 < len(want); i++ {
+				dmax = math.Max(dmax, math.Abs(want[i+1]-want[i-1])/(2*dt))
+			}
+			assert.InEpsilon(t, dmax, res.MaxDidt_a_per_s, 0.03)
+			assert.InEpsilon(t, dt*float64(len(want)-1), dt*float64(len(res.Current)-1), 1e-12)
 		})
 	}
 }
