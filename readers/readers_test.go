@@ -107,6 +107,7 @@ func TestTextDialects(t *testing.T) {
 		{"blanks, scientific upper case", "  0.0E+00   1.0E+00\n  1.0E-09   2.0E+00\n 2.0E-09 3E0\n3e-9 4\n4e-9 4\n5e-9 4\n6e-9 4\n7e-9 4\n", Options{}, 1e-9, 0, []string{"CH1"}, []string{""}, []float64{1, 2}, false},
 		{"preamble with interval, units and no time column", "Model,invented scope\nSample Interval: 2 ns\nStart: -10 ns\nVertical Units: mV\n\n5\n6\n7\n8\n9\n10\n11\n12\n", Options{}, 2e-9, -10e-9, []string{"CH1"}, []string{"V"}, []float64{5e-3, 6e-3}, false},
 		{"comments and blank lines in data", "# invented capture\nI/kA\n# first\n1\n\n2\n3\n4\n5\n6\n7\n8\n", Options{Interval_s: 1e-8}, 1e-8, 0, []string{"I"}, []string{"A"}, []float64{1000, 2000}, false},
+		{"trailing delimiters", "t,U,\n0,1.5,\n1e-9,2.5,\n2e-9,3.5,\n3e-9,1,\n4e-9,1,\n5e-9,1,\n6e-9,1,\n7e-9,1,\n", Options{}, 1e-9, 0, []string{"U"}, []string{""}, []float64{1.5, 2.5}, false},
 		{"jittered time is resampled", "t,U\n0,0\n1.001e-9,1\n2e-9,2\n3e-9,3\n4.0005e-9,4\n5e-9,5\n6e-9,6\n7e-9,7\n8e-9,8\n", Options{}, 1e-9, 0, []string{"U"}, []string{""}, []float64{0, 0.999000999000999}, true},
 	}
 	for _, c := range cases {

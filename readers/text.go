@@ -90,6 +90,10 @@ func splitFields(line []byte, delim byte, fn func(f []byte, col int) bool) {
 		for len(f) > 0 && (f[len(f)-1] == ' ' || f[len(f)-1] == '\t') {
 			f = f[:len(f)-1]
 		}
+		// Some exports end every line with a delimiter: no field follows it.
+		if j < 0 && len(f) == 0 && start > 0 {
+			return
+		}
 		if !fn(f, col) {
 			return
 		}
@@ -457,6 +461,9 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 		}
 		for c := range cols {
 			cols[c] = append(cols[c], row[c])
+		}
+		if len(cols[0])*d.Fields > MaxSamples {
+			return nil, lineErr(file, lineNo, 0, ErrTooLarge, fmt.Sprintf("more than %d values", MaxSamples))
 		}
 		if err == io.EOF {
 			break
