@@ -14,8 +14,9 @@ type Baseline struct {
 }
 
 // PreTriggerLen estimates how many leading samples come before the event: the samples
-// before the signal first departs from its start level by 2 % of its largest excursion,
-// less a margin of a fifth, so that the onset itself never biases the baseline.
+// before the signal first departs from its start level by 2 % of its largest excursion
+// (or 5 noise RMS, whichever is more) for 4 samples running, less a margin of a fifth,
+// so that the onset itself never biases the baseline.
 func PreTriggerLen(x []float64) int {
 	if len(x) == 0 {
 		return 0
@@ -41,11 +42,18 @@ func PreTriggerLen(x []float64) int {
 	if peak == 0 {
 		return len(x)
 	}
-	lim := 0.02 * peak
+	// Noise may cross 2 % early: the threshold is at least 5 noise RMS, and the
+	// excursion must hold for 4 samples in a row.
+	lim := math.Max(0.02*peak, 5*NoiseFromDifferences(x))
+	run := 0
 	for i, v := range x {
 		if math.Abs(v-b0) > lim {
-			// Noise may cross 2 % early; require the excursion to persist or grow.
-			return i * 4 / 5
+			run++
+			if run == 4 {
+				return (i - 3) * 4 / 5
+			}
+		} else {
+			run = 0
 		}
 	}
 	return len(x)
