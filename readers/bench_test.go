@@ -11,18 +11,21 @@ import (
 
 // benchText makes a 1,000,000-row, two-channel capture in the form scopes export:
 // time and two channels in scientific notation with 7 significant digits.
-func benchText() []byte {
+func benchText() []byte { return benchTextPrec(6) }
+
+// benchTextPrec writes prec digits after the point; 18 is numpy.savetxt's default.
+func benchTextPrec(prec int) []byte {
 	r := rand.New(rand.NewPCG(1, 2))
 	var b bytes.Buffer
 	b.WriteString("# invented benchmark capture\n# sample interval: 1e-9 s\nt [s],U [V],I [A]\n")
 	var row []byte
 	for i := 0; i < 1_000_000; i++ {
 		t := -1e-5 + float64(i)*1e-9
-		row = strconv.AppendFloat(row[:0], t, 'e', 6, 64)
+		row = strconv.AppendFloat(row[:0], t, 'e', prec, 64)
 		row = append(row, ',')
-		row = strconv.AppendFloat(row, 3e5*math.Sin(float64(i)*1e-4)+r.NormFloat64(), 'e', 6, 64)
+		row = strconv.AppendFloat(row, 3e5*math.Sin(float64(i)*1e-4)+r.NormFloat64(), 'e', prec, 64)
 		row = append(row, ',')
-		row = strconv.AppendFloat(row, 1e3*r.NormFloat64(), 'e', 6, 64)
+		row = strconv.AppendFloat(row, 1e3*r.NormFloat64(), 'e', prec, 64)
 		row = append(row, '\n')
 		b.Write(row)
 	}
@@ -30,7 +33,12 @@ func benchText() []byte {
 }
 
 func BenchmarkReadText1M(b *testing.B) {
-	data := benchText()
+	b.Run("7-digits", func(b *testing.B) { benchRead(b, benchText()) })
+	// numpy.savetxt's default '%.18e': 19 significant digits, past Clinger's fast path
+	b.Run("19-digits", func(b *testing.B) { benchRead(b, benchTextPrec(18)) })
+}
+
+func benchRead(b *testing.B, data []byte) {
 	b.SetBytes(int64(len(data)))
 	b.ReportAllocs()
 	b.ResetTimer()

@@ -30,9 +30,10 @@ func digitRun(b []byte, i int) (uint64, int) {
 }
 
 // parseFloat parses a decimal number written with decimal separator dec ('.' or ',').
-// The fast path is Clinger's: a mantissa below 2^53 and a power of ten up to 1e22 are
-// both exact, so one correctly rounded multiply or divide gives the correctly rounded
-// result, bit-identical to strconv.ParseFloat. Everything else goes to strconv.
+// Integers and small powers take Clinger's fast path (an exact mantissa below 2^53
+// times an exact power of ten up to 1e22: one correctly rounded multiply); any other
+// mantissa of up to 19 digits takes Eisel-Lemire (eisel.go); both give the correctly
+// rounded result, bit-identical to strconv.ParseFloat. The rest goes to strconv.
 func parseFloat(b []byte, dec byte) (float64, bool) {
 	f, end, ok := fastPrefix(b, 0, dec)
 	if ok && end == len(b) {
@@ -105,19 +106,17 @@ func fastPrefix(b []byte, i int, dec byte) (f float64, end int, ok bool) {
 		}
 		return 0, i, true
 	}
-	if mant>>53 != 0 || exp < -22 || exp > 22 {
-		return 0, i, false
+	if mant>>53 == 0 && exp >= 0 && exp <= 22 {
+		// Clinger: exact mantissa times exact power, one rounding
+		f = float64(mant) * pow10[exp]
+		if neg {
+			f = -f
+		}
+		return f, i, true
 	}
-	f = float64(mant)
-	if exp < 0 {
-		f /= pow10[-exp]
-	} else {
-		f *= pow10[exp]
-	}
-	if neg {
-		f = -f
-	}
-	return f, i, true
+	// Everything else with up to 19 digits, without a division.
+	f, ok = eiselLemire(mant, exp, neg)
+	return f, i, ok
 }
 
 // slowFloat handles what the fast path does not, through strconv. Underscores and hex

@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"errors"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -347,4 +348,47 @@ func FuzzRead(f *testing.F) {
 			return Read(bytes.NewReader(b), "fuzz", Options{Interval_s: 1e-9})
 		})
 	})
+}
+
+// Many numbers, formatted the ways exporters write them, parse bit-identically to
+// strconv.ParseFloat (the standard library is the reference).
+func TestFastPathMatchesStrconvWide(t *testing.T) {
+	r := rand.New(rand.NewPCG(9, 9))
+	var buf []byte
+	check := func(s []byte) {
+		want, err := strconv.ParseFloat(string(s), 64)
+		got, ok := parseFloat(s, '.')
+		if err != nil {
+			if !errors.Is(err, strconv.ErrRange) {
+				require.False(t, ok, "%s", s)
+			}
+			return
+		}
+		require.True(t, ok, "%s", s)
+		require.Equal(t, math.Float64bits(want), math.Float64bits(got), "%s", s)
+	}
+	for i := 0; i < 100000; i++ {
+		v := math.Float64frombits(r.Uint64())
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			continue
+		}
+		for _, f := range []struct {
+			c byte
+			p int
+		}{{'e', 18}, {'g', -1}, {'e', 6}, {'g', 9}, {'f', 12}} {
+			buf = strconv.AppendFloat(buf[:0], v, f.c, f.p, 64)
+			if len(buf) < 64 {
+				check(buf)
+			}
+		}
+		// random decimal strings of 1-19 digits with exponents across the range
+		nd := 1 + r.IntN(19)
+		buf = buf[:0]
+		for k := 0; k < nd; k++ {
+			buf = append(buf, byte('0'+r.IntN(10)))
+		}
+		buf = append(buf, 'e')
+		buf = strconv.AppendInt(buf, int64(r.IntN(700)-350), 10)
+		check(buf)
+	}
 }
