@@ -2,6 +2,7 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strings"
@@ -111,4 +112,44 @@ func TestStdinListAndOwnOutputSkipped(t *testing.T) {
 	require.Equal(t, exitOK, code, stderr)
 	assert.Equal(t, 2, strings.Count(stdout, "\n"), stdout)
 	assert.NotContains(t, stdout, "results.csv")
+}
+
+// The circuit simulations computed outside hvshot (testdata/reference/probe_refs.py,
+// SciPy solve_ivp) come out of analyze in amperes and V/m at their known peaks.
+func TestAnalyzeSimulatedSensorCaptures(t *testing.T) {
+	var refs struct {
+		Coil    map[string]map[string]float64 `json:"coil"`
+		Antenna map[string]map[string]float64 `json:"antenna"`
+	}
+	require.NoError(t, json.Unmarshal(mustRead(t, "../../testdata/reference/probe_refs.json"), &refs))
+	dir := t.TempDir()
+	c := refs.Coil["loaded_sine"]
+	a := refs.Antenna["step"]
+	setup := fmt.Sprintf(`series = "simulated sensors"
+[[channel]]
+index = 1
+role = "coil"
+[channel.coil]
+mutual = %g
+inductance = %g
+resistance = %g
+load_resistance = %g
+load_capacitance = %g
+`, c["M_h"], c["L_h"], c["Rc_ohm"], c["R_ohm"], c["C_f"])
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "coil.toml"), []byte(setup), 0o644))
+	code, out, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--setup", filepath.Join(dir, "coil.toml"),
+		"--out", filepath.Join(dir, "o1"), "../../testdata/reference/coil_loaded_sine.npy")
+	require.Equal(t, exitOK, code, stderr+out)
+	var row map[string]any
+	require.NoError(t, json.Unmarshal([]byte(out), &row))
+	assert.InEpsilon(t, c["peak_a"], row["peak_current_a"], 0.01)
+
+	setup = fmt.Sprintf("[[channel]]\nindex = 1\nrole = \"antenna\"\n[channel.antenna]\nkind = \"calibrated\"\ncalibration = %g\ndroop_tau = \"%gs\"\n", 1/a["gain"], a["tau_s"])
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "ant.toml"), []byte(setup), 0o644))
+	code, out, stderr = runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--setup", filepath.Join(dir, "ant.toml"),
+		"--out", filepath.Join(dir, "o2"), "../../testdata/reference/antenna_step.npy")
+	require.Equal(t, exitOK, code, stderr+out)
+	require.NoError(t, json.Unmarshal([]byte(out), &row))
+	assert.InEpsilon(t, a["peak_v_per_m"], row["peak_field_v_per_m"], 0.01)
+	assert.Equal(t, "antenna", row["role"])
 }
