@@ -3,6 +3,7 @@ package main
 import (
 	"bufio"
 	"bytes"
+	"encoding/csv"
 	"context"
 	"crypto/sha256"
 	"encoding/json"
@@ -187,20 +188,43 @@ func TestKilledRunLeavesNoHalfFile(t *testing.T) {
 	cmd := exec.Command(os.Args[0], "analyze", "--quiet", "--jobs", "1", "--out", out, dir)
 	cmd.Env = append(os.Environ(), "HVSHOT_AS_MAIN=1")
 	require.NoError(t, cmd.Start())
-	time.Sleep(700 * time.Millisecond)
+	// kill it once it is part-way: some plots written, the batch not finished
+	deadline := time.Now().Add(30 * time.Second)
+	for time.Now().Before(deadline) {
+		if svgs, _ := filepath.Glob(filepath.Join(out, "plots", "*.svg")); len(svgs) >= 3 {
+			break
+		}
+		time.Sleep(5 * time.Millisecond)
+	}
 	cmd.Process.Signal(syscall.SIGKILL)
 	cmd.Wait()
+	ws, ok := cmd.ProcessState.Sys().(syscall.WaitStatus)
+	require.True(t, ok && ws.Signaled(), "the run was killed mid-way, not finished")
+	// Temporary files (".name.tmp-*") may be left by the kill; every file under its
+	// real name must be whole.
 	entries, _ := os.ReadDir(out)
 	for _, e := range entries {
-		if e.IsDir() {
+		name := e.Name()
+		if e.IsDir() || strings.HasPrefix(name, ".") {
 			continue
 		}
-		assert.False(t, strings.HasPrefix(e.Name(), ".") && strings.Contains(e.Name(), "tmp") && false)
-		if e.Name() == "results.jsonl" {
-			for _, l := range strings.Split(strings.TrimSpace(string(mustRead(t, filepath.Join(out, e.Name())))), "\n") {
+		b := mustRead(t, filepath.Join(out, name))
+		switch name {
+		case "results.jsonl":
+			for _, l := range strings.Split(strings.TrimSpace(string(b)), "\n") {
 				var m map[string]any
 				assert.NoError(t, json.Unmarshal([]byte(l), &m), "a whole line")
 			}
+		case "results.csv":
+			_, err := csv.NewReader(bytes.NewReader(b)).ReadAll()
+			assert.NoError(t, err)
+		case "summary.json":
+			var m map[string]any
+			assert.NoError(t, json.Unmarshal(b, &m))
+		case "report.html":
+			assert.True(t, bytes.HasSuffix(bytes.TrimSpace(b), []byte("</html>")))
+		default:
+			t.Errorf("unexpected output file %s", name)
 		}
 	}
 	// Plots are written atomically too: every SVG present is complete.
