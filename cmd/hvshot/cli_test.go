@@ -89,9 +89,11 @@ func TestUsageErrors(t *testing.T) {
 		code, _, _ := runCmd(args...)
 		assert.Equal(t, exitUsage, code, args)
 	}
-	code, out, _ := runCmd("analyze", "--help")
+	// --help goes to stderr with the examples and the exit statuses
+	code, _, stderr := runCmd("analyze", "--help")
 	assert.Equal(t, exitOK, code)
-	_ = out
+	assert.Contains(t, stderr, "examples:")
+	assert.Contains(t, stderr, "exit status")
 }
 
 // A file list on stdin, and an output folder inside the input folder that a second run
