@@ -168,36 +168,45 @@ func (c Coil) Current(v []float64, t0, dt float64) (*CurrentResult, error) {
 				lo, il = c, i
 			}
 		}
-		if n > 1 {
-			q, a = cur[0]+cur[1], cur[0]*cur[0]+cur[1]*cur[1]
+		// Trapezoid sums from plain sums: sum over pairs (c[i-1] + c[i]) is 2 sum c less
+		// the two ends, and the same for c^2, so the loop adds each sample once.
+		var s1, s2 float64
+		for i := 0; i < n && i < 2; i++ {
+			s1 += cur[i]
+			s2 += cur[i] * cur[i]
 		}
-		p2, p1 := 0.0, 0.0
-		if n > 1 {
-			p2, p1 = cur[0], cur[1]
-		}
+		// Two loops with few live values each, so nothing spills to the stack (a spilled
+		// running sum puts a store and a load into its dependency chain); the previous
+		// samples are read back from v and cur instead of carried in variables.
+		h2 := 2 * base
 		for i := 2; i < n; i++ {
-			x := v[i] - base
-			acc += (prev + x) * h
-			prev = x
-			c := kI*acc + k*x
+			acc += (v[i-1] + v[i] - h2) * h
+			c := kI*acc + k*(v[i]-base)
 			cur[i] = c
 			if c > hi {
 				hi, ih = c, i
 			} else if c < lo {
 				lo, il = c, i
 			}
-			q += p1 + c
-			a += p1*p1 + c*c
+		}
+		for i := 2; i < n; i++ {
+			c := cur[i]
+			s1 += c
+			s2 += c * c
 			// largest rise and fall kept apart: rarely-taken branches, where an
 			// absolute value per sample would cost a round trip through the integer unit
-			if d := c - p2; d > dhi {
+			if d := c - cur[i-2]; d > dhi {
 				dhi = d
 			} else if d < dlo {
 				dlo = d
 			}
-			p2, p1 = p1, c
 		}
 		dmax = math.Max(dhi, -dlo)
+		if n > 1 {
+			first, last := cur[0], cur[n-1]
+			q = 2*s1 - first - last
+			a = 2*s2 - first*first - last*last
+		}
 		res.Current = cur
 		res.sums = &sums{hi: hi, lo: lo, ih: ih, il: il, q: q, a: a, dmax: dmax}
 	} else {
