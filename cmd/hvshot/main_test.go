@@ -3,9 +3,9 @@ package main
 import (
 	"bufio"
 	"bytes"
-	"encoding/csv"
 	"context"
 	"crypto/sha256"
+	"encoding/csv"
 	"encoding/json"
 	"flag"
 	"os"
