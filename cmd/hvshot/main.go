@@ -396,7 +396,7 @@ flags:
 		fmt.Fprintln(stderr, "hvshot: no files found in", strings.Join(inputs, ", "))
 		return exitFileErrors
 	}
-	rows, interrupted := analyzeAll(ctx, files, cfg, &f, stdout, stderr)
+	rows, interrupted := analyzeAll(ctx, files, cfg, &f, true, stdout, stderr)
 	sum := summarize(seriesName(cfg), len(files), rows)
 	sum.Interrupted = interrupted
 	if f.format == "table" {
@@ -440,12 +440,13 @@ func exitStatus(s Summary) int {
 	return exitOK
 }
 
-// analyzeAll runs the batch, streaming csv or jsonl rows to stdout as shots finish.
-func analyzeAll(ctx context.Context, files []string, cfg *Config, f *analyzeFlags, stdout, stderr io.Writer) ([]Row, bool) {
+// analyzeAll runs the batch, streaming csv or jsonl rows to stdout as shots finish;
+// header says whether csv output starts with its header row.
+func analyzeAll(ctx context.Context, files []string, cfg *Config, f *analyzeFlags, header bool, stdout, stderr io.Writer) ([]Row, bool) {
 	var rows []Row
 	prog := newProgress(len(files), f.quiet)
 	done := 0
-	if f.format == "csv" {
+	if f.format == "csv" && header {
 		stdout.Write(encodeCSV(nil))
 	}
 	interrupted := runBatch(ctx, files, cfg, f.jobs, func(s Shot) {

@@ -61,7 +61,7 @@ func watchDir(ctx context.Context, dir string, cfg *Config, f *analyzeFlags, std
 		}
 		sort.Strings(ready)
 		if len(ready) > 0 {
-			batch, _ := analyzeAll(ctx, ready, cfg, &analyzeFlags{format: f.format, quiet: true, jobs: f.jobs}, stdout, stderr)
+			batch, _ := analyzeAll(ctx, ready, cfg, &analyzeFlags{format: f.format, quiet: true, jobs: f.jobs}, count == 0, stdout, stderr)
 			if f.format == "table" {
 				for i := range batch {
 					r := &batch[i]
