@@ -18,8 +18,15 @@ type Baseline struct {
 // (or 5 noise RMS, whichever is more) for 4 samples running, less a margin of a fifth,
 // so that the onset itself never biases the baseline.
 func PreTriggerLen(x []float64) int {
+	n, _ := Onset(x)
+	return n
+}
+
+// Onset is PreTriggerLen that also returns the whole-record noise estimate it used
+// (NoiseFromDifferences), so callers need not compute it again.
+func Onset(x []float64) (pre int, noise float64) {
 	if len(x) == 0 {
-		return 0
+		return 0, 0
 	}
 	m := 8
 	if m > len(x) {
@@ -39,24 +46,25 @@ func PreTriggerLen(x []float64) int {
 		}
 	}
 	peak := math.Max(hi-b0, b0-lo)
+	noise = NoiseFromDifferences(x)
 	if peak == 0 {
-		return len(x)
+		return len(x), noise
 	}
 	// Noise may cross 2 % early: the threshold is at least 5 noise RMS, and the
 	// excursion must hold for 4 samples in a row.
-	lim := math.Max(0.02*peak, 5*NoiseFromDifferences(x))
+	lim := math.Max(0.02*peak, 5*noise)
 	run := 0
 	for i, v := range x {
 		if math.Abs(v-b0) > lim {
 			run++
 			if run == 4 {
-				return (i - 3) * 4 / 5
+				return (i - 3) * 4 / 5, noise
 			}
 		} else {
 			run = 0
 		}
 	}
-	return len(x)
+	return len(x), noise
 }
 
 // EstimateBaseline measures level, noise and drift over x[:n].
@@ -346,9 +354,10 @@ func NoiseFromDifferences(x []float64) float64 {
 	if n < 2 {
 		return 0
 	}
+	// 1024 differences put the median within a few percent, enough for thresholds.
 	stride := 1
-	if n > 4096 {
-		stride = n / 4096
+	if n > 1024 {
+		stride = n / 1024
 	}
 	d := make([]float64, 0, n/stride+1)
 	for i := 0; i < n; i += stride {

@@ -135,7 +135,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	if n < waveform.MinSamples {
 		return nil, fmt.Errorf("%w: %d samples", ErrNoImpulse, n)
 	}
-	pre := waveform.PreTriggerLen(x)
+	pre, diffNoise := waveform.Onset(x)
 	if pre < 16 {
 		r.warn("pretrigger-short", "only %d samples before the impulse: the baseline and noise estimates are weak", pre)
 	}
@@ -165,7 +165,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	r.Recorded = y
 	ip, ue := waveform.ArgMax(y, 0, n)
 	r.ExtremeV = ue
-	noise := math.Max(bl.NoiseRMS, waveform.NoiseFromDifferences(x))
+	noise := math.Max(bl.NoiseRMS, diffNoise)
 	if !(ue > 0) || ue < s.MinSNR*noise {
 		return nil, fmt.Errorf("%w: the largest excursion (%.3g V) is within %.0f x the noise (%.3g V RMS)", ErrNoImpulse, ue, s.MinSNR, noise)
 	}
