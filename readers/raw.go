@@ -211,7 +211,11 @@ func readRaw(r io.Reader, file string, spec RawSpec, sizeHint int64) (*waveform.
 		chans[c] = make([]float64, 0, est)
 		gains[c], offs[c] = perChannel(spec.Gain, c, 1), perChannel(spec.Offset, c, 0)
 	}
-	buf := make([]byte, (1<<18)/frame*frame)
+	bufLen := (1 << 18) / frame * frame
+	if sizeHint > 0 && sizeHint < int64(bufLen) {
+		bufLen = int(sizeHint/int64(frame)+1) * frame // a small file needs no 256 KiB
+	}
+	buf := make([]byte, bufLen)
 	var tmp []float64
 	var total int64
 	for {
