@@ -363,11 +363,19 @@ var timeNames = map[string]bool{"t": true, "time": true, "x": true, "s": true, "
 
 // ReadText reads a delimited text capture.
 func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, error) {
-	br := bufio.NewReaderSize(r, sniffBytes+MaxLineBytes+16)
+	size, peek := sniffBytes+MaxLineBytes+16, sniffBytes
+	if opt.SizeHint > 0 && opt.SizeHint < int64(sniffBytes) {
+		// A small file: its size (plus slack) is enough to sniff it whole, and a line
+		// may still be MaxLineBytes long should the file have grown since its size was
+		// taken.
+		peek = int(opt.SizeHint) + 64
+		size = max(peek+16, MaxLineBytes+16)
+	}
+	br := bufio.NewReaderSize(r, size)
 	if bom, _ := br.Peek(3); bytes.Equal(bom, []byte{0xEF, 0xBB, 0xBF}) {
 		br.Discard(3)
 	}
-	head, err := br.Peek(sniffBytes)
+	head, err := br.Peek(peek)
 	complete := err != nil // fewer bytes than asked: the whole file is in head
 	if len(head) == 0 {
 		return nil, fileErr(file, ErrEmpty, "")
