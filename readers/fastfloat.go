@@ -115,8 +115,20 @@ func fastPrefix(b []byte, i int, dec byte) (f float64, end int, ok bool) {
 		return f, i, true
 	}
 	// Everything else with up to 19 digits, without a division.
-	f, ok = eiselLemire(mant, exp, neg)
-	return f, i, ok
+	if f, ok = eiselLemire(mant, exp, neg); ok {
+		return f, i, true
+	}
+	// Eisel-Lemire declines values that sit exactly on (or next to) a float, which
+	// short decimals such as 1.022775e+04 = 10227.75 often do; Clinger's division is
+	// exact for them.
+	if mant>>53 == 0 && exp < 0 && exp >= -22 {
+		f = float64(mant) / pow10[-exp]
+		if neg {
+			f = -f
+		}
+		return f, i, true
+	}
+	return 0, i, false
 }
 
 // slowFloat handles what the fast path does not, through strconv. Underscores and hex
