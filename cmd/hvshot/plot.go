@@ -185,9 +185,11 @@ func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse
 			}
 		}
 		var pts plotter.XYs
-		for _, m := range []struct{ t, f float64 }{{r.T30_s, 0.3}, {r.T90_s, 0.9}, {r.T50_s, 0.5}, {r.Origin_s, 0}} {
-			if !math.IsNaN(m.t) && m.t >= lo && m.t <= hi {
-				pts = append(pts, plotter.XY{X: m.t * ts, Y: m.f * r.TestVoltageV * vs})
+		marks := []struct{ t, v float64 }{{r.T30_s, 0.3 * r.TestVoltageV}, {r.T90_s, 0.9 * r.TestVoltageV},
+			{r.T50_s, 0.5 * r.TestVoltageV}, {r.Origin_s, 0}, {r.ChopInstant_s, r.ChopVoltageV}}
+		for _, m := range marks {
+			if !math.IsNaN(m.t) && !math.IsNaN(m.v) && m.t >= lo && m.t <= hi {
+				pts = append(pts, plotter.XY{X: m.t * ts, Y: m.v * vs})
 			}
 		}
 		if len(pts) > 0 {
@@ -197,7 +199,7 @@ func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse
 			sc.GlyphStyle.Shape = draw.CircleGlyph{}
 			p.Add(sc)
 			if legend {
-				p.Legend.Add("30/90/50 % points, O1", sc)
+				p.Legend.Add("30/90/50 % points, O1, chop", sc)
 			}
 		}
 		p.X.Min, p.X.Max = lo*ts, hi*ts
