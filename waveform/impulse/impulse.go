@@ -370,11 +370,18 @@ func (r *Result) collapse(y []float64, chopAt, w int, s Settings) error {
 			best, ks = d, k
 		}
 	}
-	k0 := ks - w
+	// The collapse starts where the fall stops being steep: walk back from the steepest
+	// sample while each step still falls by more than 5 % of the steepest step. The
+	// voltage at chopping is the curve there (the largest of the three samples before).
+	k := ks
+	for k > 0 && y[k-1]-y[k] > 0.05*best {
+		k--
+	}
+	k0 := k - 2
 	if k0 < 0 {
 		k0 = 0
 	}
-	iuc, uc := waveform.ArgMax(y, k0, ks)
+	iuc, uc := waveform.ArgMax(y, k0, k+1)
 	r.ChopVoltageV = uc
 	// C: last time at or above CollapseHigh x Uc before D.
 	hi, lo := s.CollapseHigh*uc, s.CollapseLow*uc

@@ -223,6 +223,9 @@ func TestRecordConditions(t *testing.T) {
 		assert.InDelta(t, tc, r.ChopInstant_s, 2*dt)
 		assert.InDelta(t, coll, r.Collapse_s, 2*dt)
 		assert.InDelta(t, tc-(2e-6+hb.O1), r.ChopTime_s, 0.01e-6)
+		// the voltage at chopping is the curve's value at tc (construction), not the peak
+		assert.InEpsilon(t, x[int(tc/dt)], r.ChopVoltageV, 2e-3)
+		assert.Less(t, r.ChopVoltageV, r.ExtremeV)
 		assert.InEpsilon(t, hb.T1, r.FrontTime_s, 0.01)
 	})
 	t.Run("record cut before t50", func(t *testing.T) {
