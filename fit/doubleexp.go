@@ -158,13 +158,6 @@ func StartValues(t30, t90, t50, ue float64) DoubleExp {
 	return p
 }
 
-// pass computes the cost over y[from:to] and, when jt is non-nil, J^T J and J^T r.
-// Exponentials come from a multiplicative recurrence re-anchored every 256 samples:
-// uniform sampling makes exp(-(t+dt)/tau) = exp(-t/tau) exp(-dt/tau).
-func pass(y []float64, t0, dt float64, from, to int, p DoubleExp, jtj *[4][4]float64, jtr *[4]float64) float64 {
-	return passBlock(y, t0, dt, from, to, p, 1, jtj, jtr)
-}
-
 // blockFactor is the mean of exp(-k dt/tau) over a block of s samples centred on
 // k = 0, divided by its centre value: sinh(s dt/2tau) / (s sinh(dt/2tau)).
 func blockFactor(s int, dt, tau float64) float64 {
@@ -174,8 +167,11 @@ func blockFactor(s int, dt, tau float64) float64 {
 	return math.Sinh(float64(s)*dt/(2*tau)) / (float64(s) * math.Sinh(dt/(2*tau)))
 }
 
-// passBlock is pass on block means of s raw samples each, spaced dt apart; the model
-// is averaged over each block exactly, so the minimum is that of the raw data's curve.
+// passBlock computes the cost over y[from:to] and, when jtj is non-nil, J^T J and J^T r,
+// where y holds block means of s raw samples each (s = 1: the raw samples), spaced dt
+// apart; the model is averaged over each block exactly, so the minimum is that of the
+// raw data's curve. Exponentials come from a multiplicative recurrence re-anchored every
+// 256 samples: uniform sampling makes exp(-(t+dt)/tau) = exp(-t/tau) exp(-dt/tau).
 func passBlock(y []float64, t0, dt float64, from, to int, p DoubleExp, s int, jtj *[4][4]float64, jtr *[4]float64) float64 {
 	var cost float64
 	if jtj != nil {

@@ -15,6 +15,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"sort"
 	"strings"
 	"time"
@@ -626,16 +627,10 @@ func coilFromFlags(list []string) (*CoilSetup, error) {
 		return nil, fmt.Errorf("--coil: %v", err)
 	}
 	c := &CoilSetup{}
-	fields := map[string]*Quantity{"mutual": &c.Mutual, "calibration": &c.Calibration, "inductance": &c.Inductance, "resistance": &c.Resistance,
-		"load_resistance": &c.LoadResistance, "load_capacitance": &c.LoadCapacitance, "bandwidth": &c.Bandwidth}
-	for k := range m {
-		q, ok := fields[k]
-		if !ok {
-			return nil, fmt.Errorf("--coil: unknown key %q", k)
-		}
-		if *q, err = quantityOf(m, k); err != nil {
-			return nil, fmt.Errorf("--coil: %v", err)
-		}
+	if err := setQuantities(m, map[string]*Quantity{"mutual": &c.Mutual, "calibration": &c.Calibration, "inductance": &c.Inductance,
+		"resistance": &c.Resistance, "load_resistance": &c.LoadResistance, "load_capacitance": &c.LoadCapacitance,
+		"bandwidth": &c.Bandwidth}); err != nil {
+		return nil, fmt.Errorf("--coil: %v", err)
 	}
 	if _, err := c.model(); err != nil {
 		return nil, fmt.Errorf("--coil: %v", err)
@@ -649,22 +644,33 @@ func antennaFromFlags(list []string) (*AntennaSetup, error) {
 		return nil, fmt.Errorf("--antenna: %v", err)
 	}
 	a := &AntennaSetup{Kind: m["kind"], DroopTau: m["droop_tau"]}
-	fields := map[string]*Quantity{"height": &a.Height, "radius": &a.Radius, "effective_height": &a.EffectiveHeight, "capacitance": &a.Capacitance,
-		"area": &a.Area, "calibration": &a.Calibration, "load_resistance": &a.LoadResistance, "load_capacitance": &a.LoadCapacitance, "tail_start": &a.TailStart}
-	for k := range m {
-		if k == "kind" || k == "droop_tau" {
-			continue
-		}
-		q, ok := fields[k]
-		if !ok {
-			return nil, fmt.Errorf("--antenna: unknown key %q", k)
-		}
-		if *q, err = quantityOf(m, k); err != nil {
-			return nil, fmt.Errorf("--antenna: %v", err)
-		}
+	if err := setQuantities(m, map[string]*Quantity{"height": &a.Height, "radius": &a.Radius, "effective_height": &a.EffectiveHeight,
+		"capacitance": &a.Capacitance, "area": &a.Area, "calibration": &a.Calibration, "load_resistance": &a.LoadResistance,
+		"load_capacitance": &a.LoadCapacitance, "tail_start": &a.TailStart}, "kind", "droop_tau"); err != nil {
+		return nil, fmt.Errorf("--antenna: %v", err)
 	}
 	if _, err := a.model(); err != nil {
 		return nil, fmt.Errorf("--antenna: %v", err)
 	}
 	return a, nil
+}
+
+// setQuantities fills the named quantities from key=value pairs; a key that is neither
+// a quantity nor one of the words (read by the caller) is an error.
+func setQuantities(m map[string]string, fields map[string]*Quantity, words ...string) error {
+	for k := range m {
+		if slices.Contains(words, k) {
+			continue
+		}
+		q, ok := fields[k]
+		if !ok {
+			return fmt.Errorf("unknown key %q", k)
+		}
+		v, err := quantityOf(m, k)
+		if err != nil {
+			return err
+		}
+		*q = v
+	}
+	return nil
 }
