@@ -88,6 +88,25 @@ func sizeHint(r io.Reader, opt Options) int64 {
 	return 0
 }
 
+// ReadAll reads every record a capture holds: one for most files, one per segment for
+// a segmented (sequence) capture, each with its Segment set.
+func ReadAll(r io.Reader, name string, opt Options) ([]*waveform.Record, error) {
+	rec, err := Read(r, name, opt)
+	if err != nil {
+		return nil, err
+	}
+	return []*waveform.Record{rec}, nil
+}
+
+// ReadFileAll is ReadAll on a file, with ReadFile's sidecar lookup.
+func ReadFileAll(path string, opt Options) ([]*waveform.Record, error) {
+	rec, err := ReadFile(path, opt)
+	if err != nil {
+		return nil, err
+	}
+	return []*waveform.Record{rec}, nil
+}
+
 // SidecarFor returns the raw description path for a capture, if one exists.
 func SidecarFor(path string) (string, bool) {
 	for _, p := range []string{path + SidecarSuffix, strings.TrimSuffix(path, filepath.Ext(path)) + SidecarSuffix} {

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"time"
 )
 
 // MinSamples is the fewest samples a channel may have; fewer cannot carry an impulse.
@@ -19,17 +20,29 @@ type Channel struct {
 	HasRange           bool
 	RangeMin, RangeMax float64 // vertical range in Unit
 	ADCBits            int     // 0 when unknown
+	// OverRange counts the samples the instrument itself marked as beyond its range
+	// (codes outside the stated limits); 0 when none or when the file cannot say.
+	OverRange int
 }
 
 // Record is one capture: channels on one uniform time base.
 type Record struct {
 	Source     string // file name, for messages
 	Format     string // reader that produced it, e.g. "text", "npy", "raw"
+	Layout     string // the file layout the reader recognised, in words; may be empty
 	Start_s    float64
 	Interval_s float64
 	Channels   []Channel
 	Meta       map[string]string
-	Warnings   []string
+	// Trigger is the acquisition's trigger (firing) time when the file states it.
+	Trigger time.Time
+	// Segment is the 1-based segment of a segmented (sequence) capture, 0 for a file
+	// that holds one record.
+	Segment int
+	// Notes say what the reader decided and did: header lines used for names and
+	// units, rows dropped at the edges. Warnings are about the data's trustworthiness.
+	Notes    []string
+	Warnings []string
 }
 
 // ErrInvalid is wrapped by every validation failure of NewRecord.
