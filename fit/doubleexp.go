@@ -8,6 +8,36 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
+// FrontTimeFactor turns the 30 % to 90 % interval of a lightning impulse's front into
+// its front time: T1 = 1.67 (t90 - t30), IEC 60060-1:2010's definition (1/(0.9 - 0.3)
+// as the standard rounds it).
+const FrontTimeFactor = 1.67
+
+// The standard 1.2/50 shape's ratios, for start values and shape searches: with the
+// handbook coefficients tau1 = 68.2 us and tau2 = 0.405 us (high-voltage engineering
+// textbooks), T1/tau2 = 1.2/0.405 = 2.96 and T2/tau1 = 50/68.2 = 0.733. The switching
+// ratios (Tp/tau2 about 4, T2/tau1 about 0.8) are ours, only ever start values.
+const (
+	lightningFrontPerTau2 = 2.96
+	lightningHalfPerTau1  = 0.733
+	switchingPeakPerTau2  = 4
+	switchingHalfPerTau1  = 0.8
+)
+
+// The solver's tuning, ours unless marked.
+const (
+	defaultMaxIterations = 200
+	defaultRelTol        = 1e-12
+	// Marquardt's damping starts small and moves by factors of ten (common practice).
+	lambdaStart, lambdaMin, lambdaMax, lambdaStep = 1e-3, 1e-12, 1e16, 10
+	// Windows longer than blockAbove samples are fitted on about blockCount block means,
+	// each block shorter than blockMaxOfTau2 of the front constant.
+	blockAbove, blockCount, blockMaxOfTau2 = 16000, 4000, 0.1
+	// A minimum with tau1 below degenerateRatio x tau2, or tau1 beyond stepWindows x
+	// the window, is no double exponential (the second: the data never decay, a step).
+	degenerateRatio, stepWindows = 1.05, 100
+)
+
 // DoubleExp is the base-curve model's four parameters.
 type DoubleExp struct {
 	U      float64 // amplitude factor, volts (the curve's maximum is U times the peak factor)
@@ -141,12 +171,12 @@ type Settings struct {
 // crossing times and the extreme value, using the ratios of the standard lightning
 // shape (tau2 ~ T1/2.96, tau1 ~ T2/0.733). Pass t50 < 0 when the tail is unknown.
 func StartValues(t30, t90, t50, ue float64) DoubleExp {
-	t1 := 1.67 * (t90 - t30)
-	tau2 := t1 / 2.96
-	tau1 := 60 * tau2
+	t1 := FrontTimeFactor * (t90 - t30)
+	tau2 := t1 / lightningFrontPerTau2
+	tau1 := 60 * tau2 // without a tail: a tail long against the front
 	if t50 > t90 {
 		t2 := t50 - (t30 - 0.3*t1)
-		tau1 = t2 / 0.733
+		tau1 = t2 / lightningHalfPerTau1
 	}
 	if tau1 < 3*tau2 {
 		tau1 = 3 * tau2
@@ -269,7 +299,7 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 		res.Status = Degenerate
 		return res, fmt.Errorf("%w: start values %+v", ErrDegenerate, start)
 	}
-	maxIt, tol := 200, 1e-12
+	maxIt, tol := defaultMaxIterations, defaultRelTol
 	if s != nil && s.MaxIterations > 0 {
 		maxIt = s.MaxIterations
 	}
@@ -285,9 +315,9 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 	// passBlock), the noise averages the same, and the cost per pass falls by the block
 	// size. Blocks stay below a tenth of the front constant so the td block matters little.
 	blk := 1
-	if n > 16000 {
-		blk = n / 4000
-		if lim := int(start.Tau2_s / (10 * dt)); blk > lim {
+	if n > blockAbove {
+		blk = n / blockCount
+		if lim := int(blockMaxOfTau2 * start.Tau2_s / dt); blk > lim {
 			blk = lim
 		}
 		if blk < 1 {
@@ -319,7 +349,7 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 	var jtj [4][4]float64
 	var jtr [4]float64
 	cost := pass(y, t0, dt, from, to, p, &jtj, &jtr)
-	lambda := 1e-3
+	lambda := lambdaStart
 	A := mat.NewSymDense(4, nil)
 	bvec := mat.NewVecDense(4, nil)
 	var chol mat.Cholesky
@@ -328,7 +358,7 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 	it := 0
 	for it = 1; it <= maxIt; it++ {
 		improved := false
-		for lambda < 1e16 {
+		for lambda < lambdaMax {
 			for a := 0; a < 4; a++ {
 				for b := a; b < 4; b++ {
 					v := jtj[a][b] * scale[a] * scale[b]
@@ -340,11 +370,11 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 				bvec.SetVec(a, jtr[a]*scale[a])
 			}
 			if !chol.Factorize(A) {
-				lambda *= 10
+				lambda *= lambdaStep
 				continue
 			}
 			if err := chol.SolveVecTo(x, bvec); err != nil {
-				lambda *= 10
+				lambda *= lambdaStep
 				continue
 			}
 			v := vec(p)
@@ -357,7 +387,7 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 			}
 			q := unvec(v)
 			if !usable(q) {
-				lambda *= 10
+				lambda *= lambdaStep
 				continue
 			}
 			// Trials cost only the sum of squares; the Jacobian is built once a step is taken.
@@ -366,14 +396,14 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 				rel := (cost - nc) / cost
 				p, cost = q, nc
 				pass(y, t0, dt, from, to, p, &jtj, &jtr)
-				lambda = math.Max(lambda/10, 1e-12)
+				lambda = math.Max(lambda/lambdaStep, lambdaMin)
 				improved = true
 				if rel < tol || step < 1e-20*size {
 					converged = true
 				}
 				break
 			}
-			lambda *= 10
+			lambda *= lambdaStep
 		}
 		if !improved {
 			// No step lowers the cost any more: a minimum to working precision.
@@ -392,7 +422,7 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 		res.ResidualRMS = math.Sqrt(passBlock(rawY, rawT0, rawDt, rawFrom, rawTo, p, 1, nil, nil) / float64(n))
 	}
 	// A tail constant far beyond the window means the data never decay: a step, not an impulse.
-	if !usable(p) || p.Tau1_s < 1.05*p.Tau2_s || p.Tau1_s > 100*float64(n)*rawDt {
+	if !usable(p) || p.Tau1_s < degenerateRatio*p.Tau2_s || p.Tau1_s > stepWindows*float64(n)*rawDt {
 		res.Status = Degenerate
 		return res, fmt.Errorf("%w: tau1 %.4g s, tau2 %.4g s, U %.4g", ErrDegenerate, p.Tau1_s, p.Tau2_s, p.U)
 	}
@@ -433,16 +463,16 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 func ForLightning(t1_s, t2_s float64) (DoubleExp, error) {
 	return solveShape(t1_s, t2_s, func(p DoubleExp) (float64, float64) {
 		a30, a90 := p.LevelDelay_s(0.3, true), p.LevelDelay_s(0.9, true)
-		T1 := 1.67 * (a90 - a30)
+		T1 := FrontTimeFactor * (a90 - a30)
 		return T1, p.LevelDelay_s(0.5, false) - (a30 - 0.3*T1)
-	}, DoubleExp{Tau1_s: t2_s / 0.733, Tau2_s: t1_s / 2.96})
+	}, DoubleExp{Tau1_s: t2_s / lightningHalfPerTau1, Tau2_s: t1_s / lightningFrontPerTau2})
 }
 
 // ForSwitching: see ForLightning.
 func ForSwitching(tp_s, t2_s float64) (DoubleExp, error) {
 	return solveShape(tp_s, t2_s, func(p DoubleExp) (float64, float64) {
 		return p.PeakDelay_s(), p.LevelDelay_s(0.5, false)
-	}, DoubleExp{Tau1_s: t2_s / 0.8, Tau2_s: tp_s / 4})
+	}, DoubleExp{Tau1_s: t2_s / switchingHalfPerTau1, Tau2_s: tp_s / switchingPeakPerTau2})
 }
 
 func solveShape(a, b float64, times func(DoubleExp) (float64, float64), p DoubleExp) (DoubleExp, error) {

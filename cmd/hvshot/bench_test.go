@@ -9,17 +9,19 @@ import (
 	"testing"
 
 	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/shot"
 	"github.com/hvshot/hvshot/waveform/synth"
 )
 
 var (
 	benchOnce  sync.Once
-	benchFiles []string
+	benchFiles []input
 )
 
 // benchSeries writes 200 shots x 2 channels x 100,000 samples of delimited text once
 // per run (invented synthetic shots: a divider and a coil channel).
-func benchSeries(b *testing.B) []string {
+func benchSeries(b *testing.B) []input {
 	benchOnce.Do(func() {
 		dir, err := os.MkdirTemp("", "hvshot-bench-")
 		if err != nil {
@@ -28,7 +30,7 @@ func benchSeries(b *testing.B) []string {
 		for i := 0; i < 200; i++ {
 			s := synth.Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, Noise: 0.003, PreTrigger_s: 5e-6, Interval_s: 1.5e-9,
 				Duration_s: 100000 * 1.5e-9, Seed: uint64(i),
-				Coil: &synth.Coil{M_h: 1e-9, L_h: 50e-9, R_ohm: 50, PeakA: 1.5e3, Freq_hz: 300e3, Damp_s: 3e-6}}
+				Coil: &synth.Coil{M_h: 1e-9, L_h: 50e-9, R_ohm: 50, Peak_a: 1.5e3, Freq_hz: 300e3, Damp_s: 3e-6}}
 			rec, err := synth.Generate(s)
 			if err != nil {
 				b.Fatal(err)
@@ -40,16 +42,14 @@ func benchSeries(b *testing.B) []string {
 			if err := writeCapture(p, "text", rec); err != nil {
 				b.Fatal(err)
 			}
-			benchFiles = append(benchFiles, p)
+			benchFiles = append(benchFiles, input{p, filepath.Base(p)})
 		}
 	})
 	return benchFiles
 }
 
-func benchConfig() *Config {
-	cfg := &Config{Plots: "none"}
-	cfg.Tol, cfg.Settings = defaultTolSettings()
-	return cfg
+func benchWorker() *worker {
+	return &worker{cfg: shot.NewConfig(), plots: report.NoPlot}
 }
 
 // BenchmarkBatch reports shots per second for the whole job (read, evaluate both
@@ -58,13 +58,11 @@ func BenchmarkBatch(b *testing.B) {
 	files := benchSeries(b)
 	for _, jobs := range []int{1, 2} {
 		b.Run(fmt.Sprintf("jobs=%d", jobs), func(b *testing.B) {
-			cfg := benchConfig()
+			w := benchWorker()
 			for i := 0; i < b.N; i++ {
-				n := 0
-				runBatch(context.Background(), files, cfg, jobs, func(s Shot) {
-					n++
-					if s.Rows[0].Verdict == "error" {
-						b.Fatal(s.Rows[0].Error)
+				runBatch(context.Background(), files, w, jobs, func(_ int, s []*shot.Shot) {
+					if s[0].Rows[0].Verdict == shot.Error {
+						b.Fatal(s[0].Rows[0].Error)
 					}
 				})
 			}
@@ -75,7 +73,7 @@ func BenchmarkBatch(b *testing.B) {
 	b.Run("read-only", func(b *testing.B) {
 		for i := 0; i < b.N; i++ {
 			for _, f := range files {
-				if _, err := readers.ReadFile(f, readers.Options{}); err != nil {
+				if _, err := readers.ReadFile(f.path, readers.Options{}); err != nil {
 					b.Fatal(err)
 				}
 			}

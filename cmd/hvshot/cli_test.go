@@ -58,12 +58,13 @@ func TestSynthEveryFormat(t *testing.T) {
 	assert.Equal(t, b, mustRead(t, p2))
 }
 
-// A coil and an antenna channel described by flags come out in amperes and V/m.
+// A coil and an antenna channel described by flags, in the setup file's words for
+// both synth and analyze, come out in amperes and V/m.
 func TestSensorChannelsFromFlags(t *testing.T) {
 	dir := t.TempDir()
 	p := filepath.Join(dir, "s.csv")
-	code, _, stderr := runCmd("synth", "--out", p, "--coil", "M=1nH,L=50nH,R=50,peak=2kA,tau1=20us,tau2=1us",
-		"--antenna", "gain=0.06,tau=26us,peak=20kV/m")
+	code, _, stderr := runCmd("synth", "--out", p, "--coil", "mutual=1nH,inductance=50nH,load_resistance=50,peak=2kA,tau1=20us,tau2=1us",
+		"--antenna", "kind=calibrated,calibration=16.6667,droop_tau=26us,peak=20kV/m")
 	require.Equal(t, exitOK, code, stderr)
 	code, out, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(dir, "out"),
 		"--role", "coil=coil", "--coil", "mutual=1nH,inductance=50nH,load_resistance=50",
@@ -82,18 +83,93 @@ func TestSensorChannelsFromFlags(t *testing.T) {
 	assert.InEpsilon(t, 20e3, rows["antenna"]["peak_field_v_per_m"], 0.01)
 	assert.InEpsilon(t, 26e-6, rows["antenna"]["droop_tau_s"], 1e-9)
 	assert.Equal(t, "pass", rows["divider"]["verdict"])
+
+	// synth refuses what analyze would refuse, and keys it does not know
+	for _, bad := range []string{"M=1nH,L=50nH,R=50,peak=2kA", "mutual=1nH,peak=2kA,freq=1MHz,damp=1us"} {
+		code, _, stderr = runCmd("synth", "--out", filepath.Join(dir, "x.csv"), "--coil", bad)
+		assert.Equal(t, exitUsage, code, bad)
+		assert.Contains(t, stderr, "coil", bad)
+	}
 }
 
+// Every usage error is one line on stderr naming the flag and the problem, then a
+// pointer to the help; exit 64. Help goes to stdout.
 func TestUsageErrors(t *testing.T) {
-	for _, args := range [][]string{{}, {"frobnicate"}, {"analyze"}, {"analyze", "--format", "xml", "x"}, {"analyze", "--nominal", "fast", "x"}} {
-		code, _, _ := runCmd(args...)
-		assert.Equal(t, exitUsage, code, args)
+	cases := []struct {
+		args []string
+		want string
+	}{
+		{[]string{}, "usage:"},
+		{[]string{"frobnicate"}, "unknown command \"frobnicate\""},
+		{[]string{"analyze"}, "no captures named"},
+		{[]string{"analyze", "--format", "xml", "x"}, "--format: table, csv or jsonl, not \"xml\""},
+		{[]string{"analyze", "--nominal", "fast", "x"}, "--nominal"},
+		{[]string{"analyze", "--ouput", "x", "y"}, "unknown flag: --ouput (did you mean --out?)"},
+		{[]string{"analyze", "--jobs", "abc", "x"}, "--jobs: \"abc\" is not a whole number"},
+		{[]string{"analyze", "--bogus", "x"}, "unknown flag: --bogus"},
+		{[]string{"analyze", "--peak", "300", "x"}, "--peak: \"300\" has no unit"},
+		{[]string{"analyze", "--interval", "5", "x"}, "--interval: \"5\" has no unit"},
+		{[]string{"analyze", "--ratio", "-3", "x"}, "--ratio"},
+		{[]string{"analyze", "--role", "CH2=bdot", "x"}, "divider, coil or antenna"},
+		{[]string{"analyze", "--role", "CH2=coil", "x"}, "--coil"},
+		{[]string{"watch", "--bogus", "x"}, "unknown flag: --bogus"},
+		{[]string{"watch", "--poll", "often", "x"}, "--poll: \"often\" is not a duration"},
+		{[]string{"inspect", "--bogus", "x"}, "unknown flag: --bogus"},
+		{[]string{"inspect", "--time-column", "second", "x"}, "--time-column"},
+		{[]string{"synth", "--bogus"}, "unknown flag: --bogus"},
+		{[]string{"synth", "--seed", "x1", "--out", "a.csv"}, "--seed: a decimal whole number"},
+		{[]string{"synth", "--bits", "many", "--out", "a.csv"}, "--bits: \"many\" is not a whole number"},
+		{[]string{"synth", "--chop", "3", "--out", "a.csv"}, "--chop: \"3\" has no unit"},
+		{[]string{"demo", "--bogus"}, "unknown flag: --bogus"},
+		{[]string{"demo", "--plots", "gif"}, "--plots"},
+		{[]string{"selfcheck", "--bogus"}, "unknown flag: --bogus"},
+		{[]string{"help", "frobnicate"}, "no command"},
 	}
-	// --help goes to stderr with the examples and the exit statuses
-	code, _, stderr := runCmd("analyze", "--help")
-	assert.Equal(t, exitOK, code)
-	assert.Contains(t, stderr, "examples:")
-	assert.Contains(t, stderr, "exit status")
+	for _, c := range cases {
+		code, out, stderr := runCmd(c.args...)
+		assert.Equal(t, exitUsage, code, c.args)
+		if len(c.args) > 0 {
+			assert.Empty(t, out, "nothing on stdout: %v", c.args)
+		}
+		assert.Contains(t, stderr, c.want, c.args)
+		if len(c.args) > 1 && c.args[0] != "help" {
+			assert.Contains(t, stderr, "--help", "a pointer to the help: %v", c.args)
+			assert.Equal(t, 2, strings.Count(stderr, "\n"), "one line and the pointer: %q", stderr)
+		}
+	}
+	// Help: on stdout, each command its own, no Go type names.
+	for _, cmd := range []string{"analyze", "watch", "inspect", "synth", "demo", "selfcheck"} {
+		for _, args := range [][]string{{cmd, "--help"}, {"help", cmd}} {
+			code, out, stderr := runCmd(args...)
+			assert.Equal(t, exitOK, code, args)
+			assert.Empty(t, stderr, args)
+			assert.Contains(t, out, "usage: hvshot "+cmd, args)
+			for _, goName := range []string{"float64Slice", "stringSlice", "float64", "[=true|false]", "uint64"} {
+				assert.NotContains(t, out, goName, args)
+			}
+		}
+	}
+	_, out, _ := runCmd("watch", "--help")
+	assert.Contains(t, out, "as it lands")
+	assert.NotContains(t, out, "Writes results.csv, results.jsonl")
+	_, out, _ = runCmd("analyze", "--help")
+	assert.Contains(t, out, "examples:")
+	assert.Contains(t, out, "exit status")
+	// Seeds are decimal: 09 is nine, 07 is seven, not octal.
+	dir := t.TempDir()
+	for _, s := range [][2]string{{"09", "9"}, {"07", "7"}} {
+		a, b := filepath.Join(dir, "a"+s[0]+".csv"), filepath.Join(dir, "b"+s[1]+".csv")
+		code, _, stderr := runCmd("synth", "--noise", "0.01", "--seed", s[0], "--out", a)
+		require.Equal(t, exitOK, code, stderr)
+		runCmd("synth", "--noise", "0.01", "--seed", s[1], "--out", b)
+		assert.Equal(t, mustRead(t, b), mustRead(t, a), "seed %s is %s", s[0], s[1])
+	}
+	// synth --out - writes the capture to stdout, and no file named -.
+	code, out, stderr := runCmd("synth", "--out", "-")
+	require.Equal(t, exitOK, code, stderr)
+	assert.True(t, strings.HasPrefix(out, "# "), "a capture on stdout")
+	_, err := os.Stat("-")
+	assert.True(t, os.IsNotExist(err), "no file named -")
 }
 
 // A file list on stdin, and an output folder inside the input folder that a second run

@@ -19,6 +19,8 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/shot"
 	"github.com/hvshot/hvshot/waveform/synth"
 )
 
@@ -43,13 +45,6 @@ func TestSelfcheckPasses(t *testing.T) {
 	require.Equal(t, exitOK, code, out)
 	assert.Contains(t, out, " 0 missed")
 	assert.Contains(t, out, "handbook-lightning (clean)")
-}
-
-// The embedded reference copy must be the file the SciPy script wrote.
-func TestEmbeddedRefsMatchReferenceFile(t *testing.T) {
-	b, err := os.ReadFile("../../testdata/reference/impulse_refs.json")
-	require.NoError(t, err)
-	assert.Equal(t, b, selfcheckRefs)
 }
 
 func writeShot(t *testing.T, path string, s synth.Spec, format string) {
@@ -140,11 +135,11 @@ func TestBadFilesFolder(t *testing.T) {
 	noImp.Peak_v, noImp.Noise, noImp.Offset_v = 1, 50, 0
 	writeShot(t, filepath.Join(dir, "noimpulse.csv"), noImp, "text")
 	clip := spec(1.2, 50, 300e3, 5)
-	clip.RangeV, clip.Bits = 250e3, 10
+	clip.Range_v, clip.Bits = 250e3, 10
 	writeShot(t, filepath.Join(dir, "clipped.csv"), clip, "text")
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "otherchannel.csv"), bytes.Replace(full, []byte("divider [V]"), []byte("probe7 [V]"), 1), 0o644))
 	setup := "series = \"test\"\n[[channel]]\nmatch = \"divider\"\nrole = \"divider\"\n"
-	require.NoError(t, os.WriteFile(filepath.Join(dir, SetupFileName), []byte(setup), 0o644))
+	require.NoError(t, os.WriteFile(filepath.Join(dir, shot.SetupFileName), []byte(setup), 0o644))
 	before := hashDir(t, dir)
 	out := filepath.Join(t.TempDir(), "out")
 	code, stdout, stderr := runCmd("analyze", "--quiet", "--plots", "svg", "--format", "jsonl", "--out", out, dir)
@@ -236,57 +231,39 @@ func TestKilledRunLeavesNoHalfFile(t *testing.T) {
 
 func TestInterruptKeepsWhatIsDone(t *testing.T) {
 	dir := t.TempDir()
-	var files []string
+	var files []input
 	for i := 0; i < 6; i++ {
 		p := filepath.Join(dir, "s"+string(rune('a'+i))+".csv")
 		writeShot(t, p, spec(1.2, 50, 300e3, uint64(i)), "text")
-		files = append(files, p)
+		files = append(files, input{p, filepath.Base(p)})
 	}
-	cfg := &Config{Plots: "none"}
-	cfg.Tol, cfg.Settings = defaultTolSettings()
+	w := &worker{cfg: shot.NewConfig(), plots: report.NoPlot}
 	ctx, cancel := context.WithCancel(context.Background())
-	var got []Shot
-	runBatch(ctx, files, cfg, 1, func(s Shot) {
-		got = append(got, s)
+	var got []int
+	interrupted := runBatch(ctx, files, w, 1, func(i int, _ []*shot.Shot) {
+		got = append(got, i)
 		if len(got) == 2 {
 			cancel()
 		}
 	})
+	assert.True(t, interrupted)
 	require.GreaterOrEqual(t, len(got), 2)
 	assert.Less(t, len(got), 6)
-	for i, s := range got {
-		assert.Equal(t, i, s.Index, "in input order")
+	for i, k := range got {
+		assert.Equal(t, i, k, "in input order")
 	}
-}
-
-func TestSetupErrorsNameKeyAndLine(t *testing.T) {
-	_, err := ParseSetup([]byte("series = \"x\"\n[nominal]\nshape = \"1.2/50\"\ncolour = \"red\"\n"), "s.toml")
-	require.Error(t, err)
-	assert.Contains(t, err.Error(), "s.toml:4")
-	assert.Contains(t, err.Error(), "colour")
-	_, err = ParseSetup([]byte("[generator]\nstages = \"eight\"\n"), "s.toml")
-	require.Error(t, err)
-	assert.Contains(t, err.Error(), "s.toml:2")
-	_, err = ParseSetup([]byte("[[channel]]\nmatch = \"CH2\"\nrole = \"coil\"\n"), "s.toml")
-	require.Error(t, err)
-	assert.Contains(t, err.Error(), "s.toml:1")
-	assert.Contains(t, err.Error(), "coil")
-	s, err := ParseSetup([]byte(demoSetup), "demo.toml")
-	require.NoError(t, err)
-	assert.Len(t, s.Channels, 3)
 }
 
 func TestWatchPicksUpNewFile(t *testing.T) {
 	dir := t.TempDir()
 	out := filepath.Join(t.TempDir(), "out")
-	cfg := &Config{Plots: "none", OutDir: out}
-	cfg.Tol, cfg.Settings = defaultTolSettings()
 	require.NoError(t, os.MkdirAll(out, 0o755))
+	w := &worker{cfg: shot.NewConfig(), plots: report.NoPlot, out: out}
 	ctx, cancel := context.WithCancel(context.Background())
 	done := make(chan int)
 	var stdout, stderr bytes.Buffer
 	go func() {
-		done <- watchDir(ctx, dir, cfg, &analyzeFlags{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &stdout, &stderr)
+		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &env{nil, &stdout, &stderr})
 	}()
 	time.Sleep(300 * time.Millisecond)
 	// copy a capture in: written elsewhere, then moved, as a scope's save would land
@@ -302,7 +279,7 @@ func TestWatchPicksUpNewFile(t *testing.T) {
 		time.Sleep(100 * time.Millisecond)
 	}
 	cancel()
-	<-done
+	assert.Equal(t, exitInterrupted, <-done, "a stopped watch says it was interrupted")
 	b := mustRead(t, filepath.Join(out, "results.jsonl"))
 	assert.Contains(t, string(b), "new.csv")
 	assert.Contains(t, string(b), "partial.csv", "a bad file gets its error row and watching goes on")

@@ -1,169 +1,195 @@
 package main
 
 import (
+	"bufio"
+	"bytes"
 	"context"
+	"encoding/json"
 	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
-	"sort"
-	"strings"
-	"sync"
 	"time"
 
 	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/shot"
 )
 
-// collectFiles expands files and folders (recursively) into the captures to read,
-// skipping hidden entries, raw descriptions, setup files and the output folder.
-func collectFiles(args []string, outDir string) ([]string, error) {
-	var out []string
+// input is a capture to read and its identity.
+type input struct{ path, id string }
+
+// collectFiles finds the captures (see readers.Find), leaving out setup files, the
+// output folder and earlier output folders, and gives each its identity.
+func collectFiles(args []string, outDir string) (files []input, skipped []string, err error) {
 	absOut, _ := filepath.Abs(outDir)
-	skip := func(p string) bool {
-		b := filepath.Base(p)
-		return strings.HasPrefix(b, ".") || strings.HasSuffix(b, readers.SidecarSuffix) || b == SetupFileName
+	paths, skipped, err := readers.Find(args, func(p string, d fs.DirEntry) bool {
+		if !d.IsDir() {
+			return d.Name() == shot.SetupFileName
+		}
+		ap, _ := filepath.Abs(p)
+		return ap == absOut || ownOutput(p)
+	})
+	ids := shot.Identities(paths)
+	for i, p := range paths {
+		files = append(files, input{p, ids[i]})
 	}
-	for _, a := range args {
-		st, err := os.Stat(a)
-		if err != nil {
-			out = append(out, a) // reported as an error row
-			continue
-		}
-		if !st.IsDir() {
-			out = append(out, a)
-			continue
-		}
-		var found []string
-		err = filepath.WalkDir(a, func(p string, d os.DirEntry, err error) error {
-			if err != nil {
-				return nil
-			}
-			if p != a && skip(p) {
-				if d.IsDir() {
-					return filepath.SkipDir
-				}
-				return nil
-			}
-			if d.IsDir() {
-				if ap, _ := filepath.Abs(p); outDir != "" && ap == absOut {
-					return filepath.SkipDir
-				}
-				if _, err := os.Stat(filepath.Join(p, "report.html")); err == nil && p != a {
-					return filepath.SkipDir // an earlier report folder
-				}
-				return nil
-			}
-			if d.Type().IsRegular() {
-				found = append(found, p)
-			}
-			return nil
-		})
-		if err != nil {
-			return nil, err
-		}
-		sort.Strings(found)
-		out = append(out, found...)
-	}
-	return out, nil
+	return files, skipped, err
 }
 
-// runBatch evaluates files with a bounded pool of workers and hands the shots to emit
-// in input order. At most 2 x jobs files are in flight or waiting to be emitted, so
-// memory is bounded by the jobs, not the folder. A cancelled context stops new work;
-// what was done is still emitted.
-func runBatch(ctx context.Context, files []string, cfg *Config, jobs int, emit func(Shot)) (interrupted bool) {
-	if jobs < 1 {
-		jobs = 1
-	}
-	type item struct{ i int }
-	work := make(chan int)
-	results := make(chan Shot, jobs)
-	window := make(chan struct{}, 2*jobs)
-	var wg sync.WaitGroup
-	for w := 0; w < jobs; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range work {
-				results <- Shot{Index: i, Path: files[i], Rows: analyzeFile(files[i], cfg)}
-			}
-		}()
-	}
-	go func() {
-		defer close(work)
-		for i := range files {
-			select {
-			case window <- struct{}{}:
-			case <-ctx.Done():
-				return
-			}
-			select {
-			case work <- i:
-			case <-ctx.Done():
-				<-window
-				return
-			}
-		}
-	}()
-	go func() {
-		wg.Wait()
-		close(results)
-	}()
-	pending := map[int]Shot{}
-	next := 0
-	for s := range results {
-		pending[s.Index] = s
-		for {
-			p, ok := pending[next]
-			if !ok {
+// markerName marks a folder as hvshot's output, so a later scan leaves it out and a
+// later run may replace what is in it.
+const markerName = ".hvshot-output"
+
+func ownOutput(dir string) bool {
+	_, err := os.Stat(filepath.Join(dir, markerName))
+	return err == nil
+}
+
+// outputFolder picks the output folder: the one asked for, which must not hold another
+// run's report unless replace is set; or a new folder next to the inputs, with a
+// number added until the name is free, so that two runs never collide.
+func outputFolder(out string, inputs []string, replace bool) (string, error) {
+	if out == "" {
+		// beside a folder given, or in the folder of a file given
+		stem := filepath.Join(filepath.Dir(filepath.Clean(inputs[0])), "hvshot-report-"+time.Now().Format("20060102-150405"))
+		out = stem
+		for n := 2; ; n++ {
+			if err := os.Mkdir(out, 0o755); err == nil {
 				break
+			} else if !os.IsExist(err) {
+				return "", fmt.Errorf("output folder %s: %v", out, err)
 			}
-			delete(pending, next)
-			emit(p)
-			next++
-			<-window
+			out = fmt.Sprintf("%s-%d", stem, n)
+		}
+	} else if st, err := os.Stat(out); err == nil {
+		if !st.IsDir() {
+			return "", fmt.Errorf("--out %s exists and is not a folder", out)
+		}
+		if _, err := os.Stat(filepath.Join(out, "report.html")); err == nil && !replace {
+			return "", fmt.Errorf("%s already holds a report; use --force to replace it or choose another --out", out)
 		}
 	}
-	return next < len(files)
+	if err := os.MkdirAll(out, 0o755); err != nil {
+		return "", err
+	}
+	return out, writeAtomic(filepath.Join(out, markerName), []byte("hvshot output folder\n"))
 }
 
-// progress draws done/total, rate and ETA on a terminal.
-type progress struct {
-	w     io.Writer
-	total int
-	start time.Time
-	on    bool
-	last  time.Time
+// worker reads, evaluates and plots one capture at a time.
+type worker struct {
+	cfg   *shot.Config
+	read  readers.Options
+	out   string
+	plots report.PlotFormat
 }
 
-func isTerminal(f *os.File) bool {
-	st, err := f.Stat()
-	return err == nil && st.Mode()&os.ModeCharDevice != 0
+// do turns a capture into its shots (one, or one per segment); whatever goes wrong,
+// a panic included, becomes the shot's error row and the batch goes on.
+func (w *worker) do(in input) (shots []*shot.Shot) {
+	defer func() {
+		if p := recover(); p != nil {
+			shots = []*shot.Shot{shot.Failed(in.id, fmt.Errorf("%s: internal error, please report it: %v", in.path, p))}
+		}
+	}()
+	recs, err := readers.ReadFileAll(in.path, w.read)
+	if err != nil {
+		return []*shot.Shot{shot.Failed(in.id, err)}
+	}
+	for _, rec := range recs {
+		id := in.id
+		if rec.Segment > 0 {
+			id = shot.SegmentID(id, rec.Segment)
+		}
+		s := shot.Evaluate(rec, id, w.cfg)
+		w.draw(s)
+		shots = append(shots, s)
+	}
+	return shots
 }
 
-func newProgress(total int, quiet bool) *progress {
-	return &progress{w: os.Stderr, total: total, start: time.Now(), on: !quiet && isTerminal(os.Stderr)}
+// draw writes the shot's plots and lets go of the curves.
+func (w *worker) draw(s *shot.Shot) {
+	for k, c := range s.Curves {
+		r := &s.Rows[k]
+		if c == nil || w.plots == report.NoPlot || w.out == "" {
+			continue
+		}
+		rel := shot.PlotPath(s.ID, k, r.Channel, string(w.plots))
+		var b bytes.Buffer
+		err := report.Plot(&b, c, s.ID+"  "+r.Channel, w.plots)
+		if err == nil {
+			p := filepath.Join(w.out, filepath.FromSlash(rel))
+			if err = os.MkdirAll(filepath.Dir(p), 0o755); err == nil {
+				err = writeAtomic(p, b.Bytes())
+			}
+		}
+		if err != nil {
+			r.Warnings = append(r.Warnings, shot.Warning{Code: "plot-failed", Text: err.Error()})
+			continue
+		}
+		r.Plot = rel
+	}
+	s.Curves = nil
 }
 
-func (p *progress) step(done int) {
-	if !p.on {
-		return
+// runBatch evaluates the files on jobs workers and hands each file's shots to emit in
+// input order (see shot.RunOrdered); it reports whether it was interrupted.
+func runBatch(ctx context.Context, files []input, w *worker, jobs int, emit func(i int, shots []*shot.Shot)) bool {
+	return shot.RunOrdered(ctx, len(files), jobs, func(i int) []*shot.Shot { return w.do(files[i]) }, emit)
+}
+
+// writeOutputs writes the tables, the summary and the report, each atomically.
+func writeOutputs(w *worker, rows []shot.Row, sum shot.Summary) error {
+	dir := w.out
+	err := writeAtomicWith(filepath.Join(dir, "results.csv"), func(f io.Writer) error { return shot.WriteCSV(f, rows) })
+	if err == nil {
+		err = writeAtomicWith(filepath.Join(dir, "results.jsonl"), func(f io.Writer) error { return shot.WriteJSONL(f, rows) })
 	}
-	now := time.Now()
-	if done < p.total && now.Sub(p.last) < 100*time.Millisecond {
-		return
+	if err == nil {
+		sj, _ := json.MarshalIndent(sum, "", " ")
+		err = writeAtomic(filepath.Join(dir, "summary.json"), append(sj, '\n'))
 	}
-	p.last = now
-	el := now.Sub(p.start).Seconds()
-	rate := float64(done) / el
-	eta := "-"
-	if rate > 0 {
-		eta = (time.Duration(float64(p.total-done)/rate) * time.Second).Round(time.Second).String()
+	if err == nil {
+		page := report.Page{Summary: sum, Rows: rows, Config: w.cfg, Version: Version, Made: time.Now(),
+			Plot: func(rel string) ([]byte, error) { return os.ReadFile(filepath.Join(dir, filepath.FromSlash(rel))) }}
+		err = writeAtomicWith(filepath.Join(dir, "report.html"), func(f io.Writer) error { return report.HTML(f, page) })
 	}
-	width := 30
-	fill := width * done / max(p.total, 1)
-	fmt.Fprintf(p.w, "\r[%s%s] %d/%d  %.1f shots/s  ETA %s ", strings.Repeat("#", fill), strings.Repeat(".", width-fill), done, p.total, rate, eta)
-	if done == p.total {
-		fmt.Fprintln(p.w)
+	return err
+}
+
+func writeAtomic(path string, data []byte) error {
+	return writeAtomicWith(path, func(w io.Writer) error { _, err := w.Write(data); return err })
+}
+
+// writeAtomicWith writes a file through a temporary file beside it, renamed into place
+// once whole, so that a reader or a run killed mid-way never sees half a file.
+func writeAtomicWith(path string, write func(io.Writer) error) error {
+	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
+	if err != nil {
+		return err
 	}
+	tmp := f.Name()
+	bw := bufio.NewWriterSize(f, 1<<16)
+	err = write(bw)
+	if err == nil {
+		err = bw.Flush()
+	}
+	if err == nil {
+		err = f.Chmod(0o644) // CreateTemp makes it private; results are for the lab to read
+	}
+	if err == nil {
+		err = f.Sync()
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Rename(tmp, path)
+	}
+	if err != nil {
+		os.Remove(tmp)
+	}
+	return err
 }

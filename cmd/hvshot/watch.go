@@ -2,88 +2,103 @@ package main
 
 import (
 	"context"
+	"encoding/csv"
 	"fmt"
-	"io"
 	"os"
 	"path/filepath"
-	"sort"
 	"time"
+
+	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/shot"
 )
 
-// watchDir evaluates each capture that appears in dir once its size and modification
-// time have held still for one poll, appends it to the outputs and refreshes the report.
-// Files present at the start are evaluated first. It stops cleanly when ctx ends.
-func watchDir(ctx context.Context, dir string, cfg *Config, f *analyzeFlags, stdout, stderr io.Writer) int {
+// watchDir evaluates each capture that appears in dir once it is complete: its size and
+// modification time held still over a quiet period, and the same again after reading
+// it. A file that changes later is evaluated again and its rows replace the old ones.
+// The outputs are rewritten after each batch; Ctrl-C stops with them written.
+func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env) int {
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
-		fmt.Fprintf(stderr, "hvshot watch: %s is not a folder\n", dir)
-		return exitUsage
+		return e.usage("watch", "%s is not a folder", dir)
 	}
-	type seen struct {
-		size int64
-		mod  time.Time
-		done bool
+	// Scopes save in one go; a quiet period of seconds lets a slow network copy finish.
+	quiet := max(4*o.poll, 2*time.Second)
+	type state struct {
+		size   int64
+		mod    time.Time
+		stable time.Time // when size and time were last seen to change
+		done   bool
 	}
-	files := map[string]*seen{}
-	var rows []Row
-	count := 0
-	status := exitOK
-	if !f.quiet {
-		fmt.Fprintf(stderr, "watching %s (Ctrl-C to stop); outputs in %s\n", dir, cfg.OutDir)
+	files := map[string]*state{}
+	shots := map[string][]*shot.Shot{} // by path, in place of earlier rows of the same file
+	var order []string
+	csvOut := csv.NewWriter(e.stdout)
+	if o.format == "csv" {
+		csvOut.Write(shot.CSVHeader())
 	}
-	tick := time.NewTicker(f.poll)
+	if !o.quiet {
+		fmt.Fprintf(e.stderr, "watching %s (Ctrl-C to stop); outputs in %s\n", dir, w.out)
+	}
+	tick := time.NewTicker(o.poll)
 	defer tick.Stop()
 	for {
-		list, _ := collectFiles([]string{dir}, cfg.OutDir)
-		var ready []string
-		for _, p := range list {
-			st, err := os.Stat(p)
+		list, _, _ := collectFiles([]string{dir}, w.out)
+		var ready []input
+		now := time.Now()
+		for _, in := range list {
+			st, err := os.Stat(in.path)
 			if err != nil {
 				continue
 			}
-			s, ok := files[p]
-			if !ok {
-				files[p] = &seen{size: st.Size(), mod: st.ModTime()}
-				continue
-			}
-			if s.done {
-				if st.Size() != s.size || !st.ModTime().Equal(s.mod) {
-					// rewritten: evaluate again once it settles
-					s.done, s.size, s.mod = false, st.Size(), st.ModTime()
-				}
-				continue
-			}
-			if st.Size() == s.size && st.ModTime().Equal(s.mod) && st.Size() > 0 {
-				ready = append(ready, p)
-				s.done = true
-			} else {
-				s.size, s.mod = st.Size(), st.ModTime()
+			s := files[in.path]
+			switch {
+			case s == nil:
+				files[in.path] = &state{size: st.Size(), mod: st.ModTime(), stable: now}
+			case st.Size() != s.size || !st.ModTime().Equal(s.mod):
+				s.size, s.mod, s.stable, s.done = st.Size(), st.ModTime(), now, false
+			case !s.done && now.Sub(s.stable) >= quiet && st.Size() > 0:
+				rel, _ := filepath.Rel(dir, in.path)
+				ready = append(ready, input{in.path, filepath.ToSlash(rel)})
 			}
 		}
-		sort.Strings(ready)
-		if len(ready) > 0 {
-			batch, _ := analyzeAll(ctx, ready, cfg, &analyzeFlags{format: f.format, quiet: true, jobs: f.jobs}, count == 0, stdout, stderr)
-			if f.format == "table" {
-				for i := range batch {
-					r := &batch[i]
-					fmt.Fprintf(stdout, "%s  %s  %s  Ut %s kV  T1 %s us  T2 %s us  %s\n", shotName(r.File), dash(r.Channel), dash(r.Shape),
-						eng(r.TestVoltageV, 1e-3, 1), eng(r.FrontTime_s, 1e6, 3), eng(r.TimeToHalf_s, 1e6, 2), verdictWord(r.Verdict)+" "+r.failureWords())
+		changed := false
+		runBatch(ctx, ready, w, o.jobs, func(i int, got []*shot.Shot) {
+			in := ready[i]
+			s := files[in.path]
+			if st, err := os.Stat(in.path); err != nil || st.Size() != s.size || !st.ModTime().Equal(s.mod) {
+				s.stable = time.Now() // it changed while being read: wait for it to settle
+				return
+			}
+			s.done, changed = true, true
+			if _, ok := shots[in.path]; !ok {
+				order = append(order, in.path)
+			}
+			shots[in.path] = got
+			for _, sh := range got {
+				printRows(e, o.format, csvOut, sh.Rows)
+				if o.format == "table" {
+					report.Table(e.stdout, sh.Rows)
 				}
 			}
-			rows = append(rows, batch...)
-			count += len(ready)
-			sum := summarize(seriesName(cfg), count, rows)
-			if err := writeOutputs(cfg, rows, sum); err != nil {
-				fmt.Fprintln(stderr, "hvshot watch: writing outputs:", err)
-				return exitFileErrors
+		})
+		if changed {
+			series := shot.NewSeries(w.cfg.Series)
+			var rows []shot.Row
+			for _, p := range order {
+				for _, sh := range shots[p] {
+					series.Add(sh)
+					rows = append(rows, sh.Rows...)
+				}
 			}
-			status = exitStatus(sum)
+			if err := writeOutputs(w, rows, series.Summary()); err != nil {
+				return e.fail("watch", fmt.Errorf("writing outputs: %w", err))
+			}
 		}
 		select {
 		case <-ctx.Done():
-			if !f.quiet {
-				fmt.Fprintf(stderr, "stopped; %d files evaluated, report: %s\n", count, filepath.Join(cfg.OutDir, "report.html"))
+			if !o.quiet {
+				fmt.Fprintf(e.stderr, "stopped; %d files evaluated, report: %s\n", len(order), filepath.Join(w.out, "report.html"))
 			}
-			return status
+			return exitInterrupted
 		case <-tick.C:
 		}
 	}

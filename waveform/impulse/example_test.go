@@ -22,6 +22,6 @@ func ExampleEvaluate() {
 		return
 	}
 	nom, _ := impulse.ParseNominal("1.2/50")
-	fmt.Printf("%s: Ut %.1f kV, T1 %.3f us, T2 %.2f us, failures %d\n", r.Shape, r.TestVoltageV/1e3, r.FrontTime_s*1e6, r.TimeToHalf_s*1e6, len(impulse.Judge(r, nom, impulse.DefaultTolerances())))
+	fmt.Printf("%s: Ut %.1f kV, T1 %.3f us, T2 %.2f us, failures %d\n", r.Shape, r.TestVoltage_v/1e3, r.FrontTime_s*1e6, r.TimeToHalf_s*1e6, len(impulse.Judge(r, nom, impulse.DefaultTolerances())))
 	// Output: lightning-full: Ut 299.8 kV, T1 1.202 us, T2 49.99 us, failures 0
 }

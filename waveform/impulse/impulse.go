@@ -34,7 +34,7 @@ type Settings struct {
 	// (Ue - Ub) by Ue, "base" by Ub (from memory; the report names the one used).
 	OvershootOver string
 	// LightningMaxFront_s splits lightning from switching by the front time estimate
-	// 1.67 (t90 - t30) of the record (ours: 20 us, far from both standard shapes).
+	// fit.FrontTimeFactor x (t90 - t30) of the record (ours: 20 us, far from both standard shapes).
 	LightningMaxFront_s float64
 	// ChopDrop: a fall of more than this fraction of Ue within one front time after the
 	// peak is a collapse, not a tail (ours: 0.4; a 1.2/50 tail falls 2 % in that time).
@@ -79,17 +79,17 @@ type Result struct {
 	Shape    Shape
 	Polarity int // +1 or -1
 	Baseline waveform.Baseline
-	Noise    float64 // baseline noise RMS in volts
+	Noise_v  float64 // baseline noise RMS
 
-	ExtremeV      float64 // Ue, the recorded curve's extreme
-	TestVoltageV  float64 // Ut, the test voltage curve's maximum
-	BasePeakV     float64 // Ub, the base curve's maximum
-	OvershootPct  float64 // beta' in percent
+	Extreme_v     float64 // Ue, the recorded curve's extreme
+	TestVoltage_v float64 // Ut, the test voltage curve's maximum
+	BasePeak_v    float64 // Ub, the base curve's maximum
+	Overshoot_pct float64 // beta' in percent
 	FrontTime_s   float64 // T1
 	TimeToHalf_s  float64 // T2 (lightning from O1, switching from the true origin)
 	Origin_s      float64 // O1 (lightning), true origin (switching)
 	ChopTime_s    float64 // Tc, from O1 to the instant of chopping
-	ChopVoltageV  float64 // voltage at the instant of chopping
+	ChopVoltage_v float64 // voltage at the instant of chopping
 	Collapse_s    float64 // duration of the voltage collapse
 	ChopInstant_s float64
 	TimeToPeak_s  float64 // Tp (switching)
@@ -104,7 +104,7 @@ type Result struct {
 	FitFrom         int // fit window, sample indices
 	FitTo           int
 	ResidualFreq_hz float64 // dominant frequency of the fit residual
-	ResidualAmpV    float64
+	ResidualAmp_v   float64
 
 	// Curves on the record's time base, polarity made positive and baseline removed:
 	// the recorded curve, the base curve and the test voltage curve (NaN past a chop).
@@ -127,9 +127,9 @@ func (r *Result) at(idx float64) float64 { return r.Start_s + idx*r.Interval_s }
 func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	n := len(x)
 	r := &Result{Start_s: t0, Interval_s: dt}
-	for _, p := range []*float64{&r.ExtremeV, &r.TestVoltageV, &r.BasePeakV, &r.OvershootPct, &r.FrontTime_s,
-		&r.TimeToHalf_s, &r.Origin_s, &r.ChopTime_s, &r.ChopVoltageV, &r.Collapse_s, &r.ChopInstant_s,
-		&r.TimeToPeak_s, &r.TimeAbove90_s, &r.TimeToZero_s, &r.T30_s, &r.T90_s, &r.T50_s, &r.ResidualFreq_hz, &r.ResidualAmpV} {
+	for _, p := range []*float64{&r.Extreme_v, &r.TestVoltage_v, &r.BasePeak_v, &r.Overshoot_pct, &r.FrontTime_s,
+		&r.TimeToHalf_s, &r.Origin_s, &r.ChopTime_s, &r.ChopVoltage_v, &r.Collapse_s, &r.ChopInstant_s,
+		&r.TimeToPeak_s, &r.TimeAbove90_s, &r.TimeToZero_s, &r.T30_s, &r.T90_s, &r.T50_s, &r.ResidualFreq_hz, &r.ResidualAmp_v} {
 		*p = nan()
 	}
 	if n < waveform.MinSamples {
@@ -144,7 +144,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		bl = waveform.Baseline{Level: x[0], Samples: 1}
 	}
 	r.Baseline = bl
-	r.Noise = bl.NoiseRMS
+	r.Noise_v = bl.NoiseRMS
 	// polarity: the larger excursion from the baseline
 	hi, lo := x[0], x[0]
 	for _, v := range x {
@@ -164,7 +164,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	}
 	r.Recorded = y
 	ip, ue := waveform.ArgMax(y, 0, n)
-	r.ExtremeV = ue
+	r.Extreme_v = ue
 	noise := math.Max(bl.NoiseRMS, diffNoise)
 	if !(ue > 0) || ue < s.MinSNR*noise {
 		return nil, fmt.Errorf("%w: the largest excursion (%.3g V) is within %.0f x the noise (%.3g V RMS)", ErrNoImpulse, ue, s.MinSNR, noise)
@@ -189,7 +189,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	if pre > 16 && math.Abs(bl.Slope)*float64(pre) > math.Max(3*bl.NoiseRMS, 0.005*ue) {
 		r.warn("baseline-drift", "the baseline drifts by %.2g %% of the extreme across the pre-trigger part", 100*math.Abs(bl.Slope)*float64(pre)/ue)
 	}
-	frontSamples := 1.67 * (t90 - t30)
+	frontSamples := fit.FrontTimeFactor * (t90 - t30)
 	shape := LightningFull
 	if frontSamples*dt > s.LightningMaxFront_s {
 		shape = Switching
@@ -274,9 +274,9 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	base := make([]float64, n)
 	if r.FitOK {
 		fr.Params.Eval(t0, dt, base)
-		r.BasePeakV = fr.Params.Peak()
+		r.BasePeak_v = fr.Params.Peak()
 		if shape == LightningChopped {
-			_, r.BasePeakV = waveform.ArgMax(base, 0, end)
+			_, r.BasePeak_v = waveform.ArgMax(base, 0, end)
 		}
 	} else if shape == LightningFull {
 		return nil, fmt.Errorf("%w: %v", ErrFit, ferr)
@@ -297,7 +297,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		hi := min(to, end, from+8192)
 		f, a := waveform.DominantFrequency(res[from:hi], dt, 2/(float64(hi-from)*dt))
 		if a > 3*bl.NoiseRMS && a > 0.002*ue {
-			r.ResidualFreq_hz, r.ResidualAmpV = f, a
+			r.ResidualFreq_hz, r.ResidualAmp_v = f, a
 		}
 		if fr.ResidualRMS > math.Max(5*bl.NoiseRMS, 0.02*ue) {
 			r.warn("fit-residual-large", "base curve fit residual %.2g %% of Ue against baseline noise %.2g %%: check the shape and the fit window", 100*fr.ResidualRMS/ue, 100*bl.NoiseRMS/ue)
@@ -324,13 +324,13 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	}
 	r.TestVoltage = tv
 	itv, ut := waveform.ArgMax(tv, 0, end)
-	r.TestVoltageV = ut
+	r.TestVoltage_v = ut
 	if r.FitOK {
 		den := ue
 		if s.OvershootOver == "base" {
-			den = r.BasePeakV
+			den = r.BasePeak_v
 		}
-		r.OvershootPct = 100 * (ue - r.BasePeakV) / den
+		r.Overshoot_pct = 100 * (ue - r.BasePeak_v) / den
 	}
 	// Front on the test voltage curve.
 	a30 := waveform.LastCrossUp(tv, 0.3*ut, 0, itv+1)
@@ -346,7 +346,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	case Switching:
 		r.switching(tv, itv, a30, a90, s)
 	default:
-		r.FrontTime_s = 1.67 * (a90 - a30) * dt
+		r.FrontTime_s = fit.FrontTimeFactor * (a90 - a30) * dt
 		r.Origin_s = abs(a30) - 0.3*r.FrontTime_s
 		if shape == LightningChopped {
 			r.ChopTime_s = r.ChopInstant_s - r.Origin_s
@@ -382,7 +382,7 @@ func (r *Result) collapse(y []float64, chopAt, w int, s Settings) error {
 		k0 = 0
 	}
 	iuc, uc := waveform.ArgMax(y, k0, k+1)
-	r.ChopVoltageV = uc
+	r.ChopVoltage_v = uc
 	// C: last time at or above CollapseHigh x Uc before D.
 	hi, lo := s.CollapseHigh*uc, s.CollapseLow*uc
 	tD := waveform.CrossDown(y, lo, iuc, n)
@@ -409,8 +409,8 @@ func (r *Result) collapse(y []float64, chopAt, w int, s Settings) error {
 
 func (r *Result) switching(tv []float64, itv int, a30, a90 float64, s Settings) {
 	dt := r.Interval_s
-	ut := r.TestVoltageV
-	origin := math.NaN()
+	ut := r.TestVoltage_v
+	var origin float64
 	if r.FitOK {
 		origin = r.Fit.Params.Td_s
 	} else {

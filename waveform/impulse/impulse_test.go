@@ -94,7 +94,7 @@ func TestAnalyticShapes(t *testing.T) {
 			r, err := Evaluate(x, 0, dt, DefaultSettings())
 			require.NoError(t, err)
 			// Accuracy goals on clean records: times within 0.5 %, Ut within 0.1 %.
-			assert.InEpsilon(t, 300e3, r.TestVoltageV, 1e-3)
+			assert.InEpsilon(t, 300e3, r.TestVoltage_v, 1e-3)
 			if sw {
 				require.Equal(t, Switching, r.Shape)
 				assert.InEpsilon(t, ref.SwTp, r.TimeToPeak_s, 5e-3)
@@ -106,7 +106,7 @@ func TestAnalyticShapes(t *testing.T) {
 				assert.InEpsilon(t, ref.T1, r.FrontTime_s, 5e-3)
 				assert.InEpsilon(t, ref.T2, r.TimeToHalf_s, 5e-3)
 				assert.InDelta(t, td+ref.O1, r.Origin_s, 5e-3*ref.T1)
-				assert.InDelta(t, 0, r.OvershootPct, 0.05)
+				assert.InDelta(t, 0, r.Overshoot_pct, 0.05)
 				// the base curve recovers the generating constants
 				assert.InEpsilon(t, ref.Tau1, r.Fit.Params.Tau1_s, 1e-4)
 				assert.InEpsilon(t, ref.Tau2, r.Fit.Params.Tau2_s, 1e-4)
@@ -162,10 +162,10 @@ func TestOscillatingAgainstNumpy(t *testing.T) {
 		}
 		r, err := Evaluate(x, 0, c.Dt, DefaultSettings())
 		require.NoError(t, err, "%.1f MHz", c.F)
-		assert.InEpsilon(t, c.Ue, r.ExtremeV, 1e-9, "%.1f MHz", c.F)
-		assert.InEpsilon(t, c.Ut, r.TestVoltageV, 2e-3, "Ut at %.1f MHz", c.F)
-		assert.InEpsilon(t, c.Ub, r.BasePeakV, 2e-3, "Ub at %.1f MHz", c.F)
-		assert.InDelta(t, c.Beta, r.OvershootPct, 0.3, "overshoot at %.1f MHz", c.F)
+		assert.InEpsilon(t, c.Ue, r.Extreme_v, 1e-9, "%.1f MHz", c.F)
+		assert.InEpsilon(t, c.Ut, r.TestVoltage_v, 2e-3, "Ut at %.1f MHz", c.F)
+		assert.InEpsilon(t, c.Ub, r.BasePeak_v, 2e-3, "Ub at %.1f MHz", c.F)
+		assert.InDelta(t, c.Beta, r.Overshoot_pct, 0.3, "overshoot at %.1f MHz", c.F)
 		assert.InEpsilon(t, c.T1, r.FrontTime_s, 0.01, "T1 at %.1f MHz", c.F)
 		assert.InEpsilon(t, c.T2, r.TimeToHalf_s, 5e-3, "T2 at %.1f MHz", c.F)
 	}
@@ -186,7 +186,7 @@ func TestRecordConditions(t *testing.T) {
 		require.NoError(t, err)
 		assert.Equal(t, -1, r.Polarity)
 		assert.InDelta(t, 1500, r.Baseline.Level, 1e-6)
-		assert.InEpsilon(t, 300e3, r.TestVoltageV, 1e-3)
+		assert.InEpsilon(t, 300e3, r.TestVoltage_v, 1e-3)
 		assert.InEpsilon(t, hb.T1, r.FrontTime_s, 5e-3)
 		assert.InEpsilon(t, hb.T2, r.TimeToHalf_s, 5e-3)
 	})
@@ -196,7 +196,7 @@ func TestRecordConditions(t *testing.T) {
 			r, err := Evaluate(x, 0, dt, DefaultSettings())
 			require.NoError(t, err)
 			// IEC 61083-1 reference recorder limits: peak 0.7 %, T1 2 %, T2 1.5 %.
-			assert.InEpsilon(t, 300e3, r.TestVoltageV, 7e-3)
+			assert.InEpsilon(t, 300e3, r.TestVoltage_v, 7e-3)
 			assert.InEpsilon(t, hb.T1, r.FrontTime_s, 0.02)
 			assert.InEpsilon(t, hb.T2, r.TimeToHalf_s, 0.015)
 		}
@@ -224,8 +224,8 @@ func TestRecordConditions(t *testing.T) {
 		assert.InDelta(t, coll, r.Collapse_s, 2*dt)
 		assert.InDelta(t, tc-(2e-6+hb.O1), r.ChopTime_s, 0.01e-6)
 		// the voltage at chopping is the curve's value at tc (construction), not the peak
-		assert.InEpsilon(t, x[int(tc/dt)], r.ChopVoltageV, 2e-3)
-		assert.Less(t, r.ChopVoltageV, r.ExtremeV)
+		assert.InEpsilon(t, x[int(tc/dt)], r.ChopVoltage_v, 2e-3)
+		assert.Less(t, r.ChopVoltage_v, r.Extreme_v)
 		assert.InEpsilon(t, hb.T1, r.FrontTime_s, 0.01)
 	})
 	t.Run("record cut before t50", func(t *testing.T) {

@@ -11,10 +11,35 @@ import (
 
 // Nominal is the shape and value a test series aims for.
 type Nominal struct {
-	Front_s float64 // T1 for lightning, Tp for switching
+	Front_s float64 // T1 for lightning, Tp for switching; 0: not named (see For)
 	Tail_s  float64 // T2
 	Peak_v  float64 // nominal test voltage magnitude; 0 when not given
 	Chopped bool    // chopped impulses are intended
+}
+
+// The standard shapes of IEC 60060-1:2010: the lightning impulse 1.2/50 and the
+// switching impulse 250/2500.
+var (
+	StandardLightning = Nominal{Front_s: 1.2e-6, Tail_s: 50e-6}
+	StandardSwitching = Nominal{Front_s: 250e-6, Tail_s: 2500e-6}
+)
+
+// For returns the nominal that a result of the shape found is judged against. A
+// nominal that names its shape is returned unchanged. One that does not (Front_s 0)
+// becomes the standard shape of the family found, keeping the test voltage and the chop
+// intent: with Chopped set, a full impulse fails on shape; without it, a chopped
+// lightning impulse is taken as intended, since nothing says it was not.
+func (n Nominal) For(found Shape) Nominal {
+	if n.Front_s > 0 {
+		return n
+	}
+	m := StandardLightning
+	if found == Switching {
+		m = StandardSwitching
+	}
+	m.Peak_v = n.Peak_v
+	m.Chopped = n.Chopped || found == LightningChopped
+	return m
 }
 
 // Switching reports whether the nominal is a switching shape: a front beyond the
@@ -53,17 +78,17 @@ func (n Nominal) String() string {
 // Tolerances are the permitted deviations, in percent of the nominal value.
 // DefaultTolerances holds IEC 60060-1:2010's.
 type Tolerances struct {
-	TestVoltagePct   float64 // +-3
-	FrontPct         float64 // T1 +-30
-	TailPct          float64 // T2 +-20
-	OvershootMaxPct  float64 // beta' <= 10
-	TimeToPeakPct    float64 // switching Tp +-20
-	SwitchingTailPct float64 // switching T2 +-60
+	TestVoltage_pct   float64 // +-3
+	Front_pct         float64 // T1 +-30
+	Tail_pct          float64 // T2 +-20
+	OvershootMax_pct  float64 // beta' <= 10
+	TimeToPeak_pct    float64 // switching Tp +-20
+	SwitchingTail_pct float64 // switching T2 +-60
 }
 
 // DefaultTolerances returns the tolerances of IEC 60060-1:2010 for the standard shapes.
 func DefaultTolerances() Tolerances {
-	return Tolerances{TestVoltagePct: 3, FrontPct: 30, TailPct: 20, OvershootMaxPct: 10, TimeToPeakPct: 20, SwitchingTailPct: 60}
+	return Tolerances{TestVoltage_pct: 3, Front_pct: 30, Tail_pct: 20, OvershootMax_pct: 10, TimeToPeak_pct: 20, SwitchingTail_pct: 60}
 }
 
 // Failure names a parameter out of tolerance, its value and the allowed range, in SI.
@@ -110,18 +135,18 @@ func Judge(r *Result, nom Nominal, tol Tolerances) []Failure {
 	if r.Shape != want {
 		out = append(out, Failure{Parameter: "shape", Value: math.NaN(), Min: math.NaN(), Max: math.NaN(), Unit: string(r.Shape) + ", nominal " + string(want)})
 	}
-	band("test_voltage", r.TestVoltageV, nom.Peak_v, tol.TestVoltagePct, "V")
+	band("test_voltage", r.TestVoltage_v, nom.Peak_v, tol.TestVoltage_pct, "V")
 	switch r.Shape {
 	case Switching:
-		band("time_to_peak", r.TimeToPeak_s, nom.Front_s, tol.TimeToPeakPct, "s")
-		band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.SwitchingTailPct, "s")
+		band("time_to_peak", r.TimeToPeak_s, nom.Front_s, tol.TimeToPeak_pct, "s")
+		band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.SwitchingTail_pct, "s")
 	default:
-		band("front_time", r.FrontTime_s, nom.Front_s, tol.FrontPct, "s")
+		band("front_time", r.FrontTime_s, nom.Front_s, tol.Front_pct, "s")
 		if r.Shape == LightningFull {
-			band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.TailPct, "s")
+			band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.Tail_pct, "s")
 		}
-		if !math.IsNaN(r.OvershootPct) && r.OvershootPct > tol.OvershootMaxPct {
-			out = append(out, Failure{Parameter: "overshoot", Value: r.OvershootPct, Min: math.Inf(-1), Max: tol.OvershootMaxPct, Unit: "%"})
+		if !math.IsNaN(r.Overshoot_pct) && r.Overshoot_pct > tol.OvershootMax_pct {
+			out = append(out, Failure{Parameter: "overshoot", Value: r.Overshoot_pct, Min: math.Inf(-1), Max: tol.OvershootMax_pct, Unit: "%"})
 		}
 	}
 	return out

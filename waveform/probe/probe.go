@@ -59,7 +59,7 @@ type Coil struct {
 type CurrentResult struct {
 	Current         []float64 // amperes, on the record's time base, signed
 	Polarity        int
-	PeakA           float64
+	Peak_a          float64
 	PeakTime_s      float64
 	MaxDidt_a_per_s float64
 	Rise_s          float64 // 10-90 %
@@ -68,7 +68,7 @@ type CurrentResult struct {
 	TimeToHalf_s    float64 // T2 from O1
 	Charge_c        float64
 	Action_a2s      float64
-	EndPct          float64 // current at the record's end, percent of the peak
+	End_pct         float64 // current at the record's end, percent of the peak
 	Warnings        []Warning
 
 	sums *sums // filled by a fused pass, else computed by currentParams
@@ -286,8 +286,8 @@ func currentParams(r *CurrentResult, t0, dt, driftScale float64) error {
 	if pk < 0 {
 		r.Polarity = -1
 	}
-	r.PeakA = math.Abs(pk)
-	if r.PeakA == 0 {
+	r.Peak_a = math.Abs(pk)
+	if r.Peak_a == 0 {
 		return fmt.Errorf("%w: the current is zero throughout", ErrNoSignal)
 	}
 	r.PeakTime_s = t0 + float64(ip)*dt
@@ -299,13 +299,13 @@ func currentParams(r *CurrentResult, t0, dt, driftScale float64) error {
 	if r.Polarity < 0 {
 		negate(cur)
 	}
-	t10 := waveform.LastCrossUp(cur, 0.1*r.PeakA, 0, ip+1)
-	t90 := waveform.CrossUp(cur, 0.9*r.PeakA, int(math.Max(0, t10)), ip+1)
+	t10 := waveform.LastCrossUp(cur, 0.1*r.Peak_a, 0, ip+1)
+	t90 := waveform.CrossUp(cur, 0.9*r.Peak_a, int(math.Max(0, t10)), ip+1)
 	if t10 >= 0 && t90 >= 0 {
 		r.Rise_s = (t90 - t10) * dt
 		r.Front_s = 1.25 * r.Rise_s
 		r.Origin_s = at(t10) - 0.1*r.Front_s
-		if t50 := waveform.CrossDown(cur, 0.5*r.PeakA, ip, n); t50 >= 0 {
+		if t50 := waveform.CrossDown(cur, 0.5*r.Peak_a, ip, n); t50 >= 0 {
 			r.TimeToHalf_s = at(t50) - r.Origin_s
 		}
 	}
@@ -315,9 +315,9 @@ func currentParams(r *CurrentResult, t0, dt, driftScale float64) error {
 	r.MaxDidt_a_per_s = st.dmax / (2 * dt)
 	r.Charge_c = math.Abs(st.q * dt / 2)
 	r.Action_a2s = st.a * dt / 2
-	r.EndPct = 100 * math.Abs(cur[n-1]) / r.PeakA
-	if r.EndPct > 5 {
-		warn(&r.Warnings, "integration-drift", "the current at the record's end is %.2g %% of the peak: integration drift, or the record ends before the current does (pre-trigger noise alone would give %.2g %%)", r.EndPct, 100*driftScale/r.PeakA)
+	r.End_pct = 100 * math.Abs(cur[n-1]) / r.Peak_a
+	if r.End_pct > 5 {
+		warn(&r.Warnings, "integration-drift", "the current at the record's end is %.2g %% of the peak: integration drift, or the record ends before the current does (pre-trigger noise alone would give %.2g %%)", r.End_pct, 100*driftScale/r.Peak_a)
 	}
 	return nil
 }
@@ -355,16 +355,16 @@ func PlateHeffCa(area_m2 float64) float64 { return Eps0 * area_m2 }
 
 // FieldResult is a reconstructed field and its parameters.
 type FieldResult struct {
-	Field          []float64 // V/m, signed
-	Polarity       int
-	PeakVPerM      float64
-	PeakTime_s     float64
-	EndChangeVPerM float64 // field at the end of the record against before the event
-	Tau_s          float64
-	TauEstimated   bool
-	TauFitRMSPct   float64 // residual RMS of the tail fit, percent of the tail amplitude
-	SensitivityPct float64 // change of the late field for a 10 % error in tau
-	Warnings       []Warning
+	Field             []float64 // V/m, signed
+	Polarity          int
+	Peak_v_per_m      float64
+	PeakTime_s        float64
+	EndChange_v_per_m float64 // field at the end of the record against before the event
+	Tau_s             float64
+	TauEstimated      bool
+	TauFitRMS_pct     float64 // residual RMS of the tail fit, percent of the tail amplitude
+	Sensitivity_pct   float64 // change of the late field for a 10 % error in tau
+	Warnings          []Warning
 }
 
 // Gain returns the antenna's high-frequency gain G (V at the scope per V/m).
@@ -402,7 +402,7 @@ func (a Antenna) Field(v []float64, t0, dt float64) (*FieldResult, error) {
 		if err != nil {
 			return nil, err
 		}
-		tau, res.TauEstimated, res.TauFitRMSPct = t, true, rms
+		tau, res.TauEstimated, res.TauFitRMS_pct = t, true, rms
 	case tau == 0 && a.R_ohm > 0:
 		tau = a.R_ohm * (a.Ca_f + a.CL_f)
 	}
@@ -440,14 +440,14 @@ func (a Antenna) Field(v []float64, t0, dt float64) (*FieldResult, error) {
 	if pk < 0 {
 		res.Polarity = -1
 	}
-	res.PeakVPerM, res.PeakTime_s = math.Abs(pk), t0+float64(ip)*dt
+	res.Peak_v_per_m, res.PeakTime_s = math.Abs(pk), t0+float64(ip)*dt
 	end := e[len(e)-1]
-	res.EndChangeVPerM = end
+	res.EndChange_v_per_m = end
 	// 10 % error in tau: the late field moves by integral/(G tau) x (1/1.1 - 1).
 	if end != 0 {
 		d := integEnd / (g * tau) * (1/1.1 - 1)
-		res.SensitivityPct = 100 * math.Abs(d/end)
-		warn(&res.Warnings, "tau-sensitivity", "a 10 %% error in the droop time constant changes the field at the record's end by %.2g %%", res.SensitivityPct)
+		res.Sensitivity_pct = 100 * math.Abs(d/end)
+		warn(&res.Warnings, "tau-sensitivity", "a 10 %% error in the droop time constant changes the field at the record's end by %.2g %%", res.Sensitivity_pct)
 	}
 	return res, nil
 }

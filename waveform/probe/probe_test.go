@@ -100,7 +100,7 @@ func TestCoilAgainstSolveIVP(t *testing.T) {
 			res, err := Coil{M_h: c.M, L_h: c.L, Rc_ohm: c.Rc, R_ohm: c.R, C_f: c.C}.Current(v, t0, dt)
 			require.NoError(t, err)
 			// Within 1 % of the known peak and 2 % RMS over the record.
-			assert.InEpsilon(t, c.Peak, res.PeakA, 0.01)
+			assert.InEpsilon(t, c.Peak, res.Peak_a, 0.01)
 			assert.Less(t, rmsRel(res.Current, want), 0.02)
 			// charge and action integrals of the simulated current, trapezoid
 			// A damped sine's net charge nearly cancels, so its error is judged as a
@@ -131,10 +131,10 @@ func TestAntennaAgainstSolveIVP(t *testing.T) {
 			t0, dt, v, want := loadCase(t, "antenna_"+name)
 			res, err := Antenna{Calibration: 1 / a.Gain, Tau_s: a.Tau}.Field(v, t0, dt)
 			require.NoError(t, err)
-			assert.InEpsilon(t, a.Peak, res.PeakVPerM, 0.01)
+			assert.InEpsilon(t, a.Peak, res.Peak_v_per_m, 0.01)
 			assert.Less(t, rmsRel(res.Field, want), 0.02)
-			assert.InEpsilon(t, a.Peak, res.EndChangeVPerM, 0.01, "a step's field stays")
-			assert.Greater(t, res.SensitivityPct, 1.0)
+			assert.InEpsilon(t, a.Peak, res.EndChange_v_per_m, 0.01, "a step's field stays")
+			assert.Greater(t, res.Sensitivity_pct, 1.0)
 		})
 	}
 }
@@ -149,7 +149,7 @@ func TestEstimateDroopFromTail(t *testing.T) {
 	res, err := Antenna{Calibration: 1 / 0.06, EstimateTau: true}.Field(v, t0, dt)
 	require.NoError(t, err)
 	assert.True(t, res.TauEstimated)
-	assert.InEpsilon(t, 15e3, res.PeakVPerM, 0.02)
+	assert.InEpsilon(t, 15e3, res.Peak_v_per_m, 0.02)
 	// buried in noise: refuse
 	_, _, err = EstimateDroop(v, dt, 0, 100)
 	assert.ErrorContains(t, err, "buried in noise")

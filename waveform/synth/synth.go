@@ -33,7 +33,7 @@ type Spec struct {
 	PreTrigger_s float64
 	Interval_s   float64
 	Duration_s   float64
-	RangeV       float64 // scope full scale (+-), in the channel's volts; 0 = none
+	Range_v      float64 // scope full scale (+-), in the channel's volts; 0 = none
 	Bits         int     // ADC bits; 0 = no quantisation
 	Seed         uint64
 
@@ -44,7 +44,7 @@ type Spec struct {
 // Coil is the pickup coil and the discharge current it sees.
 type Coil struct {
 	M_h, L_h, Rc_ohm, R_ohm float64
-	PeakA                   float64 // amplitude factor: the double exponential's peak, or the damped sine's envelope at t = 0
+	Peak_a                  float64 // amplitude factor: the double exponential's peak, or the damped sine's envelope at t = 0
 	// current shape: a double exponential (Tau1, Tau2) or, with Freq set, a damped sine
 	Tau1_s, Tau2_s float64
 	Freq_hz        float64
@@ -55,10 +55,10 @@ type Coil struct {
 // Antenna is the field antenna: its high-frequency gain (V per V/m), droop constant and
 // the field change, which follows the charge the current has moved.
 type Antenna struct {
-	Gain      float64
-	Tau_s     float64
-	PeakVPerM float64
-	Noise_v   float64
+	Gain         float64
+	Tau_s        float64
+	Peak_v_per_m float64
+	Noise_v      float64
 }
 
 // Shape returns the double exponential of the spec, peak 1, starting at 0.
@@ -90,10 +90,10 @@ func (c *Coil) current(u float64) (i, didt float64) {
 	if c.Freq_hz > 0 {
 		w := 2 * math.Pi * c.Freq_hz
 		e := math.Exp(-u / c.Damp_s)
-		return c.PeakA * e * math.Sin(w*u), c.PeakA * e * (w*math.Cos(w*u) - math.Sin(w*u)/c.Damp_s)
+		return c.Peak_a * e * math.Sin(w*u), c.Peak_a * e * (w*math.Cos(w*u) - math.Sin(w*u)/c.Damp_s)
 	}
 	p := fit.DoubleExp{U: 1, Tau1_s: c.Tau1_s, Tau2_s: c.Tau2_s}
-	k := c.PeakA / p.PeakFactor()
+	k := c.Peak_a / p.PeakFactor()
 	e1, e2 := math.Exp(-u/c.Tau1_s), math.Exp(-u/c.Tau2_s)
 	return k * (e1 - e2), k * (-e1/c.Tau1_s + e2/c.Tau2_s)
 }
@@ -138,7 +138,7 @@ func Generate(s Spec) (*waveform.Record, error) {
 		div[i] = sign*v*s.Peak_v + s.Offset_v + s.Noise*s.Peak_v*rng.NormFloat64()
 	}
 	ch := waveform.Channel{Name: "divider", Unit: "V", Samples: div}
-	scope(&ch, s.RangeV, s.Bits)
+	scope(&ch, s.Range_v, s.Bits)
 	chans := []waveform.Channel{ch}
 	if c := s.Coil; c != nil {
 		v := coilVoltage(c, t0, dt, n)
@@ -161,7 +161,7 @@ func Generate(s Spec) (*waveform.Record, error) {
 		e := make([]float64, n)
 		if qmax != 0 {
 			for i := range e {
-				e[i] = a.PeakVPerM * q[i] / qmax
+				e[i] = a.Peak_v_per_m * q[i] / qmax
 			}
 		}
 		// antenna high-pass, exact for a field linear between samples

@@ -23,7 +23,7 @@ func TestGenerateMarksAndShapes(t *testing.T) {
 	b, _ := Generate(s)
 	assert.Equal(t, a.Channels[0].Samples, b.Channels[0].Samples)
 	// quantised to 8 bits over +-80 kV and clipped there
-	s.RangeV, s.Bits = 80e3, 8
+	s.Range_v, s.Bits = 80e3, 8
 	c, err := Generate(s)
 	require.NoError(t, err)
 	q := 160e3 / 256
@@ -37,7 +37,7 @@ func TestGenerateMarksAndShapes(t *testing.T) {
 
 func TestCoilChannelFollowsCircuit(t *testing.T) {
 	// With L = 0 the coil gives exactly R M/(R + Rc) dI/dt (the circuit's closed form).
-	c := &Coil{M_h: 1e-9, R_ohm: 50, Rc_ohm: 1, PeakA: 1e3, Tau1_s: 20e-6, Tau2_s: 1e-6}
+	c := &Coil{M_h: 1e-9, R_ohm: 50, Rc_ohm: 1, Peak_a: 1e3, Tau1_s: 20e-6, Tau2_s: 1e-6}
 	rec, err := Generate(Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 1e3, Interval_s: 10e-9, Duration_s: 50e-6, Coil: c})
 	require.NoError(t, err)
 	v := rec.Channels[1].Samples

@@ -1,18 +1,12 @@
-package main
+package impulse
 
 import (
 	_ "embed"
 	"encoding/json"
 	"fmt"
-	"io"
 	"math"
 	"math/rand/v2"
 	"sort"
-	"text/tabwriter"
-
-	flag "github.com/spf13/pflag"
-
-	"github.com/hvshot/hvshot/waveform/impulse"
 )
 
 // selfcheckRefs are computed outside hvshot by testdata/reference/impulse_refs.py
@@ -22,12 +16,14 @@ import (
 //go:embed refs/impulse_refs.json
 var selfcheckRefs []byte
 
-type checkLine struct {
-	Case, Param      string
-	Ref, Got, ErrPct float64
-	LimitPct         float64
-	Abs              bool // limit in percentage points (overshoot), not percent
-	OK               bool
+// Check is one parameter of one reference case against its reference value.
+type Check struct {
+	Case, Param string
+	Ref, Got    float64 // SI, or per unit for normalised cases
+	Err_pct     float64 // relative error in percent, or the difference in points when Abs
+	Limit_pct   float64
+	Abs         bool // the limit is in percentage points (overshoot), not percent
+	OK          bool
 }
 
 type refsDoc struct {
@@ -51,17 +47,18 @@ func dexp(tau1, tau2, peak, td, dt float64, n int, noise float64, seed uint64) [
 	return x
 }
 
-// runSelfcheck evaluates the reference set; see docs/selfcheck.md.
-func runSelfcheck() ([]checkLine, error) {
+// SelfCheck evaluates the built-in reference set (docs/selfcheck.md) and compares each
+// parameter with its reference value, computed outside hvshot, and acceptance limit.
+func SelfCheck() ([]Check, error) {
 	var doc refsDoc
 	if err := json.Unmarshal(selfcheckRefs, &doc); err != nil {
 		return nil, err
 	}
-	var out []checkLine
-	s := impulse.DefaultSettings()
+	var out []Check
+	s := DefaultSettings()
 	cmp := func(cs, p string, ref, got, lim float64) {
 		e := 100 * (got - ref) / ref
-		out = append(out, checkLine{Case: cs, Param: p, Ref: ref, Got: got, ErrPct: e, LimitPct: lim, OK: math.Abs(e) <= lim})
+		out = append(out, Check{Case: cs, Param: p, Ref: ref, Got: got, Err_pct: e, Limit_pct: lim, OK: math.Abs(e) <= lim})
 	}
 	names := make([]string, 0, len(doc.Shapes))
 	for k := range doc.Shapes {
@@ -93,10 +90,10 @@ func runSelfcheck() ([]checkLine, error) {
 					x[i] = -x[i] + 2e3
 				}
 			}
-			res, err := impulse.Evaluate(x, 0, dt, s)
+			res, err := Evaluate(x, 0, dt, s)
 			cs := name + " (" + v.label + ")"
 			if err != nil {
-				out = append(out, checkLine{Case: cs, Param: "evaluation: " + err.Error()})
+				out = append(out, Check{Case: cs, Param: "evaluation: " + err.Error()})
 				continue
 			}
 			// Limits: clean 0.1 % (Ut) and 0.5 % (times), the accuracy hvshot claims;
@@ -105,7 +102,7 @@ func runSelfcheck() ([]checkLine, error) {
 			if v.noise > 0 {
 				lu, lt1, lt2 = 0.7, 2, 1.5
 			}
-			cmp(cs, "test voltage", peak, res.TestVoltageV, lu)
+			cmp(cs, "test voltage", peak, res.TestVoltage_v, lu)
 			if sw {
 				cmp(cs, "time to peak Tp", r["switching_time_to_peak_s"], res.TimeToPeak_s, lt1)
 				cmp(cs, "time to half T2", r["switching_time_to_half_s"], res.TimeToHalf_s, lt2)
@@ -125,16 +122,16 @@ func runSelfcheck() ([]checkLine, error) {
 			}
 		}
 		cs := fmt.Sprintf("oscillation %.1f MHz, %.0f %%", o["f_mhz"], 100*o["amp"])
-		res, err := impulse.Evaluate(x, 0, o["dt_s"], s)
+		res, err := Evaluate(x, 0, o["dt_s"], s)
 		if err != nil {
-			out = append(out, checkLine{Case: cs, Param: "evaluation: " + err.Error()})
+			out = append(out, Check{Case: cs, Param: "evaluation: " + err.Error()})
 			continue
 		}
-		cmp(cs, "test voltage", o["test_voltage"], res.TestVoltageV, 0.2)
+		cmp(cs, "test voltage", o["test_voltage"], res.TestVoltage_v, 0.2)
 		cmp(cs, "front time T1", o["front_time_s"], res.FrontTime_s, 1)
 		cmp(cs, "time to half T2", o["time_to_half_s"], res.TimeToHalf_s, 0.5)
-		d := res.OvershootPct - o["overshoot_pct"]
-		out = append(out, checkLine{Case: cs, Param: "overshoot (points)", Ref: o["overshoot_pct"], Got: res.OvershootPct, ErrPct: d, LimitPct: 0.3, Abs: true, OK: math.Abs(d) <= 0.3})
+		d := res.Overshoot_pct - o["overshoot_pct"]
+		out = append(out, Check{Case: cs, Param: "overshoot (points)", Ref: o["overshoot_pct"], Got: res.Overshoot_pct, Err_pct: d, Limit_pct: 0.3, Abs: true, OK: math.Abs(d) <= 0.3})
 	}
 	// Chopped: a linear collapse starting at tc gives back tc by construction, and O1
 	// is the full shape's (the chop comes after the front).
@@ -149,70 +146,13 @@ func runSelfcheck() ([]checkLine, error) {
 			x[i] *= 1 - (t-tc)/coll
 		}
 	}
-	res, err := impulse.Evaluate(x, 0, dt, s)
+	res, err := Evaluate(x, 0, dt, s)
 	if err != nil {
-		out = append(out, checkLine{Case: "handbook chopped at 3 us", Param: "evaluation: " + err.Error()})
+		out = append(out, Check{Case: "handbook chopped at 3 us", Param: "evaluation: " + err.Error()})
 	} else {
 		cmp("handbook chopped at 3 us", "time to chopping Tc", tc-(2e-6+hb["virtual_origin_s"]), res.ChopTime_s, 0.5)
 		cmp("handbook chopped at 3 us", "front time T1", hb["front_time_s"], res.FrontTime_s, 1)
 		cmp("handbook chopped at 3 us", "collapse duration", coll, res.Collapse_s, 5)
 	}
 	return out, nil
-}
-
-func cmdSelfcheck(args []string, stdout, stderr io.Writer) int {
-	fs := flag.NewFlagSet("selfcheck", flag.ContinueOnError)
-	fs.SetOutput(stderr)
-	asJSON := fs.Bool("json", false, "print the checks as JSON")
-	fs.Usage = func() {
-		fmt.Fprint(stderr, "usage: hvshot selfcheck [--json]\nEvaluates built-in reference records (docs/selfcheck.md) and compares each parameter with\nits reference value and acceptance limit. Exit status 1 on any miss.\n")
-		fs.PrintDefaults()
-	}
-	if code, stop := parseFlags(fs, args); stop {
-		return code
-	}
-	lines, err := runSelfcheck()
-	if err != nil {
-		fmt.Fprintln(stderr, "hvshot selfcheck:", err)
-		return exitFileErrors
-	}
-	miss := 0
-	for _, l := range lines {
-		if !l.OK {
-			miss++
-		}
-	}
-	if *asJSON {
-		json.NewEncoder(stdout).Encode(lines)
-	} else {
-		fmt.Fprintf(stdout, "hvshot %s self-check: reference values from SciPy/NumPy (testdata/reference/impulse_refs.py), none computed by hvshot\n\n", Version)
-		tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', 0)
-		fmt.Fprintln(tw, "case\tparameter\treference\tmeasured\terror\tlimit\tresult")
-		for _, l := range lines {
-			unit, k := "us", 1e6
-			switch {
-			case l.Param == "test voltage" && l.Ref > 10:
-				unit, k = "kV", 1e-3
-			case l.Param == "test voltage":
-				unit, k = "pu", 1
-			case l.Abs:
-				unit, k = "%", 1
-			}
-			word := "ok"
-			if !l.OK {
-				word = "MISS"
-			}
-			errU := "%"
-			if l.Abs {
-				errU = " pt"
-			}
-			fmt.Fprintf(tw, "%s\t%s\t%.5g %s\t%.5g %s\t%+.3f%s\t%.2g%s\t%s\n", l.Case, l.Param, l.Ref*k, unit, l.Got*k, unit, l.ErrPct, errU, l.LimitPct, errU, word)
-		}
-		tw.Flush()
-		fmt.Fprintf(stdout, "\n%d checks, %d within limits, %d missed\n", len(lines), len(lines)-miss, miss)
-	}
-	if miss > 0 {
-		return exitOutOfTol
-	}
-	return exitOK
 }

@@ -1,13 +1,10 @@
-package main
+package report
 
 import (
-	"bytes"
 	"fmt"
 	"image/color"
+	"io"
 	"math"
-	"os"
-	"path/filepath"
-	"regexp"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -17,11 +14,27 @@ import (
 	"gonum.org/v1/plot/vg/vgsvg"
 
 	"github.com/hvshot/hvshot/fit"
-	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/shot"
 )
 
-var unsafeName = regexp.MustCompile(`[^A-Za-z0-9._-]+`)
+// PlotFormat is the file format of the plots.
+type PlotFormat string
+
+const (
+	SVG    PlotFormat = "svg"
+	PNG    PlotFormat = "png"
+	NoPlot PlotFormat = "none"
+)
+
+// ParsePlotFormat reads a plot format name.
+func ParsePlotFormat(s string) (PlotFormat, error) {
+	switch f := PlotFormat(s); f {
+	case SVG, PNG, NoPlot:
+		return f, nil
+	}
+	return "", fmt.Errorf("svg, png or none, not %q", s)
+}
 
 // decimate keeps at most about max points, the minimum and maximum of each bucket, so
 // spikes and the peak survive on the plot.
@@ -62,16 +75,11 @@ func max2(a, b int) int {
 	return b
 }
 
-// savePlot draws the plots side by side into one file of the configured format.
-func savePlot(cfg *Config, file, label string, ps ...*plot.Plot) string {
-	if cfg.Plots == "none" || cfg.OutDir == "" {
-		return ""
-	}
-	ext := cfg.Plots
-	rel := filepath.Join("plots", unsafeName.ReplaceAllString(shotName(file)+"_"+label, "_")+"."+ext)
+// save draws the plots side by side in the format and writes them to w.
+func save(w io.Writer, format PlotFormat, ps ...*plot.Plot) error {
 	width, height := vg.Length(len(ps))*13*vg.Centimeter, 10*vg.Centimeter
 	var c vg.CanvasWriterTo
-	if ext == "png" {
+	if format == PNG {
 		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}
 	} else {
 		c = vgsvg.New(width, height)
@@ -82,17 +90,8 @@ func savePlot(cfg *Config, file, label string, ps ...*plot.Plot) string {
 	for i, p := range ps {
 		p.Draw(canv[0][i])
 	}
-	var buf bytes.Buffer
-	if _, err := c.WriteTo(&buf); err != nil {
-		return ""
-	}
-	if err := os.MkdirAll(filepath.Join(cfg.OutDir, "plots"), 0o755); err != nil {
-		return ""
-	}
-	if err := writeAtomic(filepath.Join(cfg.OutDir, rel), buf.Bytes()); err != nil {
-		return ""
-	}
-	return rel
+	_, err := c.WriteTo(w)
+	return err
 }
 
 var (
@@ -111,12 +110,26 @@ func line(xy plotter.XYs, c color.Color, width vg.Length, dashes ...vg.Length) *
 	return l
 }
 
+// Plot draws a row's curves, titled with its shot and channel, and writes the plot in
+// format to w: a divider's front and whole impulse side by side, or a sensor's signal.
+func Plot(w io.Writer, c *shot.Curves, title string, format PlotFormat) error {
+	if c.Impulse != nil {
+		return plotImpulse(w, c, title, format)
+	}
+	p := plot.New()
+	p.Title.Text = title
+	p.X.Label.Text = "time (us)"
+	scale, unit := 1e-3, "k"+c.Unit
+	p.Y.Label.Text = fmt.Sprintf("%s (%s)", c.Quantity, unit)
+	p.Add(plotter.NewGrid())
+	p.Add(line(decimate(c.Start_s, c.Interval_s, c.Signal, 1e6, scale, 3000), colBase, vg.Points(1.2)))
+	return save(w, format, p)
+}
+
 // plotImpulse draws the recorded, base and test voltage curves with the points that
 // define T1 and T2, and the slowest and fastest shapes the nominal's tolerances allow.
-func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse.Nominal) string {
-	if cfg.Plots == "none" || cfg.OutDir == "" {
-		return ""
-	}
+func plotImpulse(w io.Writer, c *shot.Curves, title string, format PlotFormat) error {
+	r, nom, tol := c.Impulse, c.Nominal, c.Tolerances
 	const ts, vs = 1e6, 1e-3
 	n := len(r.Recorded)
 	end := r.Start_s + float64(n-1)*r.Interval_s
@@ -167,14 +180,14 @@ func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse
 		}
 		// tolerance limits: the nominal's fastest and slowest shapes, at O1, scaled to Ut
 		if !math.IsNaN(r.Origin_s) && r.Shape != impulse.Switching && nom.Front_s > 0 {
-			for i, k := range [][2]float64{{1 - cfg.Tol.FrontPct/100, 1 - cfg.Tol.TailPct/100}, {1 + cfg.Tol.FrontPct/100, 1 + cfg.Tol.TailPct/100}} {
+			for i, k := range [][2]float64{{1 - tol.Front_pct/100, 1 - tol.Tail_pct/100}, {1 + tol.Front_pct/100, 1 + tol.Tail_pct/100}} {
 				sh, err := fit.ForLightning(nom.Front_s*k[0], nom.Tail_s*k[1])
 				if err != nil {
 					continue
 				}
 				a30, a90 := sh.LevelDelay_s(0.3, true), sh.LevelDelay_s(0.9, true)
-				sh.Td_s = r.Origin_s - (a30 - 0.3*1.67*(a90-a30))
-				sh.U = r.TestVoltageV / sh.PeakFactor()
+				sh.Td_s = r.Origin_s - (a30 - 0.3*fit.FrontTimeFactor*(a90-a30))
+				sh.U = r.TestVoltage_v / sh.PeakFactor()
 				y := make([]float64, i1-i0)
 				sh.Eval(t0, r.Interval_s, y)
 				l := line(decimate(t0, r.Interval_s, y, ts, vs, 1500), colBand, vg.Points(0.8), vg.Points(2), vg.Points(2))
@@ -185,8 +198,8 @@ func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse
 			}
 		}
 		var pts plotter.XYs
-		marks := []struct{ t, v float64 }{{r.T30_s, 0.3 * r.TestVoltageV}, {r.T90_s, 0.9 * r.TestVoltageV},
-			{r.T50_s, 0.5 * r.TestVoltageV}, {r.Origin_s, 0}, {r.ChopInstant_s, r.ChopVoltageV}}
+		marks := []struct{ t, v float64 }{{r.T30_s, 0.3 * r.TestVoltage_v}, {r.T90_s, 0.9 * r.TestVoltage_v},
+			{r.T50_s, 0.5 * r.TestVoltage_v}, {r.Origin_s, 0}, {r.ChopInstant_s, r.ChopVoltage_v}}
 		for _, m := range marks {
 			if !math.IsNaN(m.t) && !math.IsNaN(m.v) && m.t >= lo && m.t <= hi {
 				pts = append(pts, plotter.XY{X: m.t * ts, Y: m.v * vs})
@@ -210,27 +223,13 @@ func plotImpulse(cfg *Config, file, label string, r *impulse.Result, nom impulse
 	var note string
 	switch r.Shape {
 	case impulse.Switching:
-		note = fmt.Sprintf("Ut %.1f kV  Tp %.0f us  T2 %.0f us", r.TestVoltageV*vs, r.TimeToPeak_s*ts, r.TimeToHalf_s*ts)
+		note = fmt.Sprintf("Ut %.1f kV  Tp %.0f us  T2 %.0f us", r.TestVoltage_v*vs, r.TimeToPeak_s*ts, r.TimeToHalf_s*ts)
 	case impulse.LightningChopped:
-		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f us  Tc %.3f us", r.TestVoltageV*vs, r.FrontTime_s*ts, r.ChopTime_s*ts)
+		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f us  Tc %.3f us", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.ChopTime_s*ts)
 	default:
-		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f us  T2 %.2f us  overshoot %.1f %%", r.TestVoltageV*vs, r.FrontTime_s*ts, r.TimeToHalf_s*ts, r.OvershootPct)
+		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f us  T2 %.2f us  overshoot %.1f %%", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.TimeToHalf_s*ts, r.Overshoot_pct)
 	}
-	name := fmt.Sprintf("%s  %s  (%s)", shotName(file), label, r.Shape)
-	left := build(frontLo, frontHi, false, name+"\nfront")
+	left := build(frontLo, frontHi, false, fmt.Sprintf("%s  (%s)\nfront", title, r.Shape))
 	right := build(r.Start_s, fullHi, true, note+"\nwhole impulse")
-	return savePlot(cfg, file, label, left, right)
-}
-
-func plotSensor(cfg *Config, file, label string, rec *waveform.Record, y []float64, ylabel string, scale float64) string {
-	if cfg.Plots == "none" || cfg.OutDir == "" {
-		return ""
-	}
-	p := plot.New()
-	p.Title.Text = fmt.Sprintf("%s  %s", shotName(file), label)
-	p.X.Label.Text = "time (us)"
-	p.Y.Label.Text = ylabel
-	p.Add(plotter.NewGrid())
-	p.Add(line(decimate(rec.Start_s, rec.Interval_s, y, 1e6, scale, 3000), colBase, vg.Points(1.2)))
-	return savePlot(cfg, file, label, p)
+	return save(w, format, left, right)
 }

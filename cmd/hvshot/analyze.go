@@ -1,0 +1,269 @@
+package main
+
+import (
+	"bufio"
+	"context"
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"math"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"runtime"
+	"strconv"
+	"strings"
+	"syscall"
+	"time"
+
+	flag "github.com/spf13/pflag"
+
+	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/shot"
+)
+
+func init() {
+	commands = append(commands,
+		&command{name: "analyze", usage: "[flags] PATH...", flags: analyzeCommand(false)},
+		&command{name: "watch", usage: "[flags] DIR", flags: analyzeCommand(true)})
+}
+
+type analyzeOpts struct {
+	setup, nominal, peak, out, format, plots, overOver, stages, charging string
+	jobs                                                                 int
+	quiet, force, chopped                                                bool
+	roles, coil, antenna, ratios                                         []string
+	read                                                                 readFlags
+	poll                                                                 time.Duration
+}
+
+func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int {
+	return func(fs *flag.FlagSet) func([]string, *env) int {
+		var o analyzeOpts
+		fs.StringVar(&o.setup, "setup", "", "setup `FILE` (default: "+shot.SetupFileName+" beside the captures)")
+		fs.StringVar(&o.nominal, "nominal", "", "nominal shape front/tail in us, e.g. 1.2/50 or 250/2500 (default: the standard shape of the family found) (`SHAPE`)")
+		fs.StringVar(&o.peak, "peak", "", "nominal test voltage, e.g. 300kV (`VOLTAGE`)")
+		fs.BoolVar(&o.chopped, "chopped", false, "chopped impulses are intended: a full impulse fails on shape, a chopped one does not")
+		fs.StringSliceVar(&o.ratios, "ratio", nil, "divider ratio for every divider channel (1000), or for one channel (CH1=1000) (`RATIO`)")
+		fs.StringVarP(&o.out, "out", "o", "", "output `FOLDER` (default: a new folder next to the inputs)")
+		fs.StringVar(&o.format, "format", "table", "what stdout gets: table, csv or jsonl (`FORMAT`)")
+		fs.StringVar(&o.plots, "plots", "svg", "per-shot plots: svg, png or none (`FORMAT`)")
+		fs.IntVar(&o.jobs, "jobs", runtime.NumCPU(), "files evaluated at once (`N`)")
+		fs.BoolVarP(&o.quiet, "quiet", "q", false, "no progress or messages on stderr")
+		fs.BoolVar(&o.force, "force", false, "replace an existing report in --out")
+		fs.StringVar(&o.overOver, "overshoot-over", "", "overshoot denominator: extreme (Ue) or base (Ub) (`WHICH`)")
+		fs.StringVar(&o.stages, "stages", "", "generator stages, for the efficiency Ut/(n x charging voltage) (`N`)")
+		fs.StringVar(&o.charging, "charging", "", "charging voltage per stage, e.g. 40kV (`VOLTAGE`)")
+		fs.StringSliceVar(&o.roles, "role", nil, "a channel's role without a setup file: NAME=ROLE or CHn=ROLE, ROLE divider, coil or antenna (`CH=ROLE`)")
+		fs.StringSliceVar(&o.coil, "coil", nil, "coil for --role ...=coil, the setup file's keys: mutual=2nH,inductance=40nH,load_resistance=50 (`KEY=VALUE,...`)")
+		fs.StringSliceVar(&o.antenna, "antenna", nil, "antenna for --role ...=antenna: kind=whip,height=0.5m,radius=2mm,load_resistance=1Mohm,load_capacitance=20pF (`KEY=VALUE,...`)")
+		if watch {
+			fs.DurationVar(&o.poll, "poll", 500*time.Millisecond, "how often to look for new files (`DURATION`)")
+		}
+		o.read.add(fs)
+		return func(args []string, e *env) int { return analyze(&o, args, e, watch) }
+	}
+}
+
+func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
+	name := map[bool]string{false: "analyze", true: "watch"}[watch]
+	if len(inputs) == 1 && inputs[0] == "-" && !watch {
+		inputs = nil
+		sc := bufio.NewScanner(e.stdin)
+		for sc.Scan() {
+			if l := strings.TrimSpace(sc.Text()); l != "" {
+				inputs = append(inputs, l)
+			}
+		}
+	}
+	switch {
+	case len(inputs) == 0:
+		return e.usage(name, "no captures named: give files or folders (or - and a list on stdin)")
+	case watch && len(inputs) != 1:
+		return e.usage(name, "watch takes one folder, not %d arguments", len(inputs))
+	}
+	if o.format != "table" && o.format != "csv" && o.format != "jsonl" {
+		return e.usage(name, "--format: table, csv or jsonl, not %q", o.format)
+	}
+	plots, err := report.ParsePlotFormat(o.plots)
+	if err != nil {
+		return e.usage(name, "--plots: %v", err)
+	}
+	cfg, rd, err := configure(o, inputs)
+	if err != nil {
+		return e.usage(name, "%v", err)
+	}
+	out, err := outputFolder(o.out, inputs, o.force || watch)
+	if err != nil {
+		return e.usage(name, "%v", err)
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
+	defer stop()
+	w := &worker{cfg: cfg, read: rd, out: out, plots: plots}
+	if watch {
+		return watchDir(ctx, inputs[0], w, o, e)
+	}
+	files, skipped, err := collectFiles(inputs, out)
+	if err != nil {
+		return e.fail(name, err)
+	}
+	if len(skipped) > 0 && !o.quiet {
+		fmt.Fprintf(e.stderr, "hvshot analyze: skipped %d %s that %s not captures: %s\n", len(skipped), plural(len(skipped), "file"), map[bool]string{true: "is", false: "are"}[len(skipped) == 1], strings.Join(skipped, ", "))
+	}
+	if len(files) == 0 {
+		return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
+	}
+	if err := os.MkdirAll(out, 0o755); err != nil {
+		return e.fail(name, err)
+	}
+	series := shot.NewSeries(cfg.Series)
+	var rows []shot.Row
+	prog := report.NewProgress(e.stderr, len(files), o.quiet)
+	csvOut := csv.NewWriter(e.stdout)
+	if o.format == "csv" {
+		csvOut.Write(shot.CSVHeader())
+	}
+	interrupted := runBatch(ctx, files, w, o.jobs, func(i int, shots []*shot.Shot) {
+		for _, s := range shots {
+			series.Add(s)
+			rows = append(rows, s.Rows...)
+			printRows(e, o.format, csvOut, s.Rows)
+		}
+		prog.Step(i + 1)
+	})
+	sum := series.Summary()
+	sum.Interrupted = interrupted
+	if o.format == "table" {
+		report.Table(e.stdout, rows)
+		fmt.Fprintln(e.stdout)
+		report.Summary(e.stdout, sum)
+	}
+	if err := writeOutputs(w, rows, sum); err != nil {
+		return e.fail(name, fmt.Errorf("writing outputs: %w", err))
+	}
+	if !o.quiet {
+		fmt.Fprintf(e.stderr, "report: %s\n", filepath.Join(out, "report.html"))
+	}
+	if interrupted {
+		return exitInterrupted
+	}
+	return exitStatus(sum)
+}
+
+func plural(n int, word string) string {
+	if n == 1 {
+		return word
+	}
+	return word + "s"
+}
+
+// printRows streams finished rows to stdout as csv or jsonl.
+func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
+	for i := range rows {
+		switch format {
+		case "jsonl":
+			b, _ := json.Marshal(&rows[i])
+			e.stdout.Write(append(b, '\n'))
+		case "csv":
+			w.Write(rows[i].CSVRecord())
+		}
+	}
+	w.Flush()
+}
+
+func exitStatus(s shot.Summary) int {
+	switch {
+	case s.Errors > 0:
+		return exitFileErrors
+	case s.Fail > 0:
+		return exitOutOfTol
+	}
+	return exitOK
+}
+
+// configure turns the setup file and the flags into the evaluation's configuration and
+// the reading options; flags override the setup file.
+func configure(o *analyzeOpts, inputs []string) (*shot.Config, readers.Options, error) {
+	rd, err := o.read.options()
+	if err != nil {
+		return nil, rd, err
+	}
+	cfg := shot.NewConfig()
+	path := o.setup
+	if path == "" {
+		dir := inputs[0]
+		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+			dir = filepath.Dir(dir)
+		}
+		if _, err := os.Stat(filepath.Join(dir, shot.SetupFileName)); err == nil {
+			path = filepath.Join(dir, shot.SetupFileName)
+		}
+	}
+	if path != "" {
+		b, err := os.ReadFile(path)
+		if err != nil {
+			return nil, rd, fmt.Errorf("--setup: %v", err)
+		}
+		s, err := shot.ParseSetup(b, path)
+		if err != nil {
+			return nil, rd, err
+		}
+		cfg = shot.FromSetup(s)
+		if s.Read.Interval.Set && rd.Interval_s == 0 {
+			rd.Interval_s = s.Read.Interval.V
+		}
+		if s.Read.TimeColumn != "" && rd.TimeColumn == "auto" {
+			rd.TimeColumn = s.Read.TimeColumn
+		}
+	}
+	if o.nominal != "" {
+		n, err := impulse.ParseNominal(o.nominal)
+		if err != nil {
+			return nil, rd, fmt.Errorf("--nominal: %v", err)
+		}
+		n.Peak_v, n.Chopped = cfg.Nominal.Peak_v, cfg.Nominal.Chopped
+		cfg.Nominal = n
+	}
+	cfg.Nominal.Chopped = cfg.Nominal.Chopped || o.chopped
+	if o.peak != "" {
+		v, err := quantity("peak", o.peak, "V", "300kV")
+		if err != nil {
+			return nil, rd, err
+		}
+		cfg.Nominal.Peak_v = math.Abs(v)
+	}
+	switch o.overOver {
+	case "":
+	case "extreme", "base":
+		cfg.Settings.OvershootOver = o.overOver
+	default:
+		return nil, rd, fmt.Errorf("--overshoot-over: extreme or base, not %q", o.overOver)
+	}
+	if o.stages != "" {
+		n, err := strconv.Atoi(o.stages)
+		if err != nil || n < 1 {
+			return nil, rd, fmt.Errorf("--stages: a positive whole number, not %q", o.stages)
+		}
+		cfg.Stages = n
+	}
+	if o.charging != "" {
+		v, err := quantity("charging", o.charging, "V", "40kV")
+		if err != nil {
+			return nil, rd, err
+		}
+		cfg.Charging_v = math.Abs(v)
+	}
+	for _, r := range o.ratios {
+		if err := cfg.AddRatio(r); err != nil {
+			return nil, rd, fmt.Errorf("--ratio %v", err)
+		}
+	}
+	for _, r := range o.roles {
+		if err := cfg.AddRole(r, strings.Join(o.coil, ","), strings.Join(o.antenna, ",")); err != nil {
+			return nil, rd, fmt.Errorf("--role %v", err)
+		}
+	}
+	return cfg, rd, nil
+}

@@ -1,0 +1,137 @@
+package report
+
+import (
+	"fmt"
+	"io"
+	"sort"
+	"strings"
+	"text/tabwriter"
+
+	"github.com/hvshot/hvshot/waveform/shot"
+)
+
+// consoleColumns are the number columns of the per-shot tables, from the column table.
+func consoleColumns() []*shot.Column {
+	var out []*shot.Column
+	for _, c := range shot.Columns {
+		if c.Console > 0 {
+			out = append(out, c)
+		}
+	}
+	sort.SliceStable(out, func(i, j int) bool { return out[i].Console < out[j].Console })
+	return out
+}
+
+// Header is a column's heading on screens: its label and screen unit.
+func Header(c *shot.Column) string {
+	if c.Screen == "" {
+		return c.Label
+	}
+	return c.Label + " " + c.Screen
+}
+
+// Cell is a row's value of a number column on screens, "-" when absent.
+func Cell(r *shot.Row, c *shot.Column) string {
+	v, ok := r.Value(c)
+	if !ok {
+		return "-"
+	}
+	return c.Format(v)
+}
+
+// Why says in words what failed or went wrong, then the warnings' codes.
+func Why(r *shot.Row) string {
+	if r.Verdict == shot.Error {
+		return r.Error
+	}
+	var p []string
+	for _, f := range r.Failures {
+		p = append(p, f.String())
+	}
+	why := strings.Join(p, "; ")
+	var codes []string
+	for _, w := range r.Warnings {
+		// the droop sensitivity is a figure every antenna row carries, not a concern
+		if w.Code != "tau-sensitivity" {
+			codes = append(codes, w.Code)
+		}
+	}
+	if len(codes) > 0 {
+		if why != "" {
+			why += "; "
+		}
+		why += "warn: " + strings.Join(codes, ",")
+	}
+	return why
+}
+
+func dash(s string) string {
+	if s == "" {
+		return "-"
+	}
+	return s
+}
+
+// Table writes the per-shot table in engineering units.
+func Table(w io.Writer, rows []shot.Row) {
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	cols := consoleColumns()
+	head := []string{"shot", "channel", "shape"}
+	for _, c := range cols {
+		head = append(head, Header(c))
+	}
+	fmt.Fprintln(tw, strings.Join(append(head, "verdict", "why / warnings"), "\t"))
+	for i := range rows {
+		r := &rows[i]
+		cells := []string{r.File, dash(r.Channel), dash(string(r.Shape))}
+		for _, c := range cols {
+			cells = append(cells, Cell(r, c))
+		}
+		fmt.Fprintln(tw, strings.Join(append(cells, r.Verdict.Word(), Why(r)), "\t"))
+	}
+	tw.Flush()
+}
+
+// StatCells are a statistic's mean, sd, min and max in its column's screen unit.
+func StatCells(s shot.Stat) (mean, sd, lo, hi, unit string) {
+	c := s.Column()
+	if c == nil {
+		f := func(v float64) string { return shot.FormatDigits(v, 4, false) }
+		return f(s.Mean), f(s.SD), f(s.Min), f(s.Max), s.Unit
+	}
+	sd = "-"
+	if s.N > 1 {
+		sd = shot.FormatDigits(s.SD*c.Scale, 3, false)
+	}
+	return c.Format(s.Mean), sd, c.Format(s.Min), c.Format(s.Max), c.Screen
+}
+
+// Summary writes the series summary: counts, then the statistics.
+func Summary(w io.Writer, s shot.Summary) {
+	title := "series summary"
+	if s.Series != "" {
+		title += ": " + s.Series
+	}
+	fmt.Fprintln(w, title)
+	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error\n", plural(s.Files, "file"), plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors)
+	if s.Interrupted {
+		fmt.Fprintln(w, "  interrupted: the rows above are the files finished before the stop")
+	}
+	if len(s.Stats) == 0 {
+		return
+	}
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprintln(tw, "  parameter\tn\tmean\tsd\tmin\tmax\tunit")
+	for _, st := range s.Stats {
+		mean, sd, lo, hi, unit := StatCells(st)
+		fmt.Fprintf(tw, "  %s\t%d\t%s\t%s\t%s\t%s\t%s\n", st.Name, st.N, mean, sd, lo, hi, unit)
+	}
+	tw.Flush()
+}
+
+func plural(n int, word string) string {
+	if n == 1 {
+		return "1 " + word
+	}
+	return fmt.Sprintf("%d %ss", n, word)
+}

@@ -1,0 +1,185 @@
+package shot
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strconv"
+	"strings"
+
+	"github.com/hvshot/hvshot/waveform"
+	"github.com/hvshot/hvshot/waveform/impulse"
+)
+
+// Shot is one evaluated record: a row per channel and, beside each, what its plot draws.
+type Shot struct {
+	ID     string
+	Rows   []Row
+	Curves []*Curves // parallel to Rows; nil where there is nothing to draw
+}
+
+// Curves are what a row's plot shows: a divider's impulse with the nominal it was
+// judged against, or a sensor's reconstructed signal.
+type Curves struct {
+	Impulse    *impulse.Result
+	Nominal    impulse.Nominal
+	Tolerances impulse.Tolerances
+
+	Signal              []float64 // sensor: current in A or field in V/m, signed
+	Start_s, Interval_s float64
+	Quantity, Unit      string // "current", "A" or "field", "V/m"
+}
+
+// Failed is the shot of a file that could not be read: one error row naming it.
+func Failed(id string, err error) *Shot {
+	msg := err.Error()
+	if !strings.Contains(msg, id) {
+		msg = id + ": " + msg
+	}
+	return &Shot{ID: id, Rows: []Row{errorRow(id, msg)}, Curves: []*Curves{nil}}
+}
+
+func errorRow(id, msg string) Row {
+	r := Row{File: id, Verdict: Error, Error: msg}
+	r.fill(&sources{})
+	return r
+}
+
+// Evaluate evaluates every described channel of rec under cfg; id is the shot's
+// identity (see Identities). It never fails as a whole: a channel that cannot be
+// evaluated is an error row that says why. The record's samples are not changed.
+func Evaluate(rec *waveform.Record, id string, cfg *Config) *Shot {
+	plans, warns, err := plan(rec, cfg)
+	if err != nil {
+		return Failed(id, err)
+	}
+	s := &Shot{ID: id}
+	for _, p := range plans {
+		row, c := evaluateChannel(rec, id, p, cfg)
+		row.Warnings = append(row.Warnings, warns...)
+		s.Rows = append(s.Rows, row)
+		s.Curves = append(s.Curves, c)
+	}
+	return s
+}
+
+func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (Row, *Curves) {
+	cs := p.setup
+	label := p.ch.Name
+	if cs.Name != "" {
+		label = cs.Name
+	}
+	row := Row{File: id, Channel: label, Role: cs.Role}
+	src := &sources{efficiency: math.NaN(), droop_s: math.NaN()}
+	fail := func(err error) (Row, *Curves) {
+		row.Verdict, row.Error = Error, fmt.Sprintf("%s: channel %s: %v", id, label, err)
+		row.fill(src)
+		return row, nil
+	}
+	if p.named != "" {
+		row.Role = ""
+		return fail(fmt.Errorf("its name says %s, and no %s is described: give it a role (--role %s=%s with --%s, or a [[channel]] in the setup file), or --role %s=divider to judge it as a divider",
+			p.named, p.named, p.ch.Name, p.named, p.named, p.ch.Name))
+	}
+	// Scale and droop on a copy; the record stays as read.
+	ch := *p.ch
+	ch.Samples = append([]float64(nil), p.ch.Samples...)
+	ratio := cs.Ratio.V
+	if cs.Role == Divider && cfg.Ratio != 0 {
+		ratio = cfg.Ratio
+	}
+	for _, k := range []string{p.ch.Name, label, "CH" + strconv.Itoa(p.index+1), "ch" + strconv.Itoa(p.index+1)} {
+		if v, ok := cfg.Ratios[k]; ok {
+			ratio = v
+			break
+		}
+	}
+	if ratio != 0 && ratio != 1 {
+		for i := range ch.Samples {
+			ch.Samples[i] *= ratio
+		}
+		ch.RangeMin, ch.RangeMax = ch.RangeMin*ratio, ch.RangeMax*ratio
+		if ch.RangeMin > ch.RangeMax {
+			ch.RangeMin, ch.RangeMax = ch.RangeMax, ch.RangeMin
+		}
+	}
+	if cl, ok := waveform.DetectClipping(p.ch); ok && cs.Role != Divider {
+		row.Warnings = append(row.Warnings, Warning{"clipped", fmt.Sprintf("%d samples stuck at the channel's limit from sample %d: the reconstruction is not trustworthy", cl.Length, cl.Index)})
+	}
+	if cs.DroopTau.Set && cs.DroopTau.V > 0 {
+		waveform.UndoDroop(ch.Samples, rec.Interval_s, cs.DroopTau.V)
+		src.droop_s = cs.DroopTau.V
+	}
+	for _, w := range rec.Warnings {
+		row.Warnings = append(row.Warnings, Warning{"reader", w})
+	}
+	dt, t0 := rec.Interval_s, rec.Start_s
+	switch cs.Role {
+	case Coil, Antenna:
+		var c *Curves
+		if cs.Role == Coil {
+			m, err := cs.Coil.Model()
+			if err != nil {
+				return fail(err)
+			}
+			res, err := m.Current(ch.Samples, t0, dt)
+			if err != nil {
+				return fail(err)
+			}
+			src.cur, row.Polarity = res, polarityOf(res.Polarity)
+			row.Warnings = appendWarnings(row.Warnings, res.Warnings)
+			c = &Curves{Signal: res.Current, Quantity: "current", Unit: "A"}
+		} else {
+			m, err := cs.Antenna.Model()
+			if err != nil {
+				return fail(err)
+			}
+			res, err := m.Field(ch.Samples, t0, dt)
+			if err != nil {
+				return fail(err)
+			}
+			src.fld, row.Polarity, row.DroopEstimated = res, polarityOf(res.Polarity), res.TauEstimated
+			row.Warnings = appendWarnings(row.Warnings, res.Warnings)
+			c = &Curves{Signal: res.Field, Quantity: "field", Unit: "V/m"}
+		}
+		c.Start_s, c.Interval_s = t0, dt
+		row.Verdict = Pass
+		row.fill(src)
+		return row, c
+	}
+	r, err := impulse.EvaluateChannel(&ch, t0, dt, cfg.Settings)
+	if err != nil {
+		if errors.Is(err, impulse.ErrNoImpulse) {
+			row.Shape = impulse.None
+		}
+		return fail(err)
+	}
+	row.Shape, row.Polarity = r.Shape, polarityOf(r.Polarity)
+	src.imp = r
+	if cfg.Stages > 0 && cfg.Charging_v > 0 {
+		src.efficiency = r.TestVoltage_v / (float64(cfg.Stages) * cfg.Charging_v)
+	}
+	row.Warnings = appendWarnings(row.Warnings, r.Warnings)
+	nom := cfg.Nominal.For(r.Shape)
+	if nom.Peak_v > 0 && r.TestVoltage_v < 0.01*nom.Peak_v {
+		row.Warnings = append(row.Warnings, Warning{"ratio-missing", fmt.Sprintf("the test voltage %.4g V is below 1 %% of the nominal %.4g kV: a low-side capture? give the divider ratio (--ratio, or ratio in the setup file)", r.TestVoltage_v, nom.Peak_v/1e3)})
+	}
+	row.Failures = impulse.Judge(r, nom, cfg.Tolerances)
+	row.Verdict = Pass
+	if len(row.Failures) > 0 {
+		row.Verdict = Fail
+	}
+	row.fill(src)
+	return row, &Curves{Impulse: r, Nominal: nom, Tolerances: cfg.Tolerances}
+}
+
+// appendWarnings takes the evaluations' warnings, which have Warning's own shape.
+func appendWarnings[W ~struct {
+	Code string `json:"code"`
+	Text string `json:"text"`
+}](to []Warning, ws []W) []Warning {
+	for _, w := range ws {
+		to = append(to, Warning(w))
+	}
+	return to
+}

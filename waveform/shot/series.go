@@ -1,0 +1,104 @@
+package shot
+
+import "math"
+
+// Stat is the spread of one parameter over a series, in SI.
+type Stat struct {
+	Name string  `json:"name"`
+	Key  string  `json:"key"`
+	Unit string  `json:"unit"`
+	N    int     `json:"n"`
+	Mean float64 `json:"mean"`
+	SD   float64 `json:"sd"` // sample standard deviation; 0 for a single value
+	Min  float64 `json:"min"`
+	Max  float64 `json:"max"`
+	col  *Column
+}
+
+// Column is the output column the statistic summarises (nil after decoding JSON).
+func (s Stat) Column() *Column { return s.col }
+
+// Summary is a series' outcome: counts of files and rows by verdict, and statistics.
+type Summary struct {
+	Series      string `json:"series,omitempty"`
+	Files       int    `json:"files"`
+	Rows        int    `json:"rows"`
+	Pass        int    `json:"pass"`
+	Fail        int    `json:"fail"`
+	Errors      int    `json:"error"`
+	Stats       []Stat `json:"stats"`
+	Interrupted bool   `json:"interrupted,omitempty"`
+}
+
+// Series accumulates shots into a Summary without keeping them: its memory does not
+// grow with the number of shots.
+type Series struct {
+	name               string
+	files, rows        int
+	pass, fail, errors int
+	acc                []welford // by column index
+}
+
+// welford is Welford's running mean and sum of squared deviations (Knuth, TAOCP vol. 2,
+// 4.2.2), stable where a sum of squares minus a squared sum is not.
+type welford struct {
+	n        int
+	mean, m2 float64
+	min, max float64
+	started  bool
+}
+
+func (w *welford) add(v float64) {
+	w.n++
+	d := v - w.mean
+	w.mean += d / float64(w.n)
+	w.m2 += d * (v - w.mean)
+	if !w.started {
+		w.min, w.max, w.started = v, v, true
+	}
+	w.min, w.max = math.Min(w.min, v), math.Max(w.max, v)
+}
+
+// NewSeries starts a series of the given name.
+func NewSeries(name string) *Series {
+	return &Series{name: name, acc: make([]welford, len(Columns))}
+}
+
+// Add counts a shot: one file, its rows by verdict, and its values.
+func (s *Series) Add(sh *Shot) {
+	s.files++
+	for i := range sh.Rows {
+		r := &sh.Rows[i]
+		s.rows++
+		switch r.Verdict {
+		case Pass:
+			s.pass++
+		case Fail:
+			s.fail++
+		default:
+			s.errors++
+		}
+		for _, c := range Columns {
+			if v, ok := r.Value(c); ok && c.Stat != "" {
+				s.acc[c.index].add(v)
+			}
+		}
+	}
+}
+
+// Summary returns the series so far.
+func (s *Series) Summary() Summary {
+	out := Summary{Series: s.name, Files: s.files, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Stats: []Stat{}}
+	for _, c := range Columns {
+		w := s.acc[c.index]
+		if c.Stat == "" || w.n == 0 {
+			continue
+		}
+		st := Stat{Name: c.Stat, Key: c.Key, Unit: c.Unit, N: w.n, Mean: w.mean, Min: w.min, Max: w.max, col: c}
+		if w.n > 1 {
+			st.SD = math.Sqrt(w.m2 / float64(w.n-1))
+		}
+		out.Stats = append(out.Stats, st)
+	}
+	return out
+}

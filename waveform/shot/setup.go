@@ -1,0 +1,261 @@
+package shot
+
+import (
+	"bufio"
+	"bytes"
+	"errors"
+	"fmt"
+	"math"
+	"path"
+	"regexp"
+	"strconv"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+
+	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform/impulse"
+)
+
+// SetupFileName is the setup file looked for beside the captures.
+const SetupFileName = "hvshot.toml"
+
+// Quantity is a number in SI, written in the setup file either as a bare number or as
+// a string with a unit: 300e3, "300 kV", "2 ns", "1 Mohm".
+type Quantity struct {
+	V   float64
+	Set bool
+}
+
+// UnmarshalTOML reads a bare number or a string with a unit.
+func (q *Quantity) UnmarshalTOML(v any) error {
+	switch x := v.(type) {
+	case int64:
+		q.V = float64(x)
+	case float64:
+		q.V = x
+	case string:
+		f, _, err := readers.ParseQuantity(x)
+		if err != nil {
+			return err
+		}
+		q.V = f
+	default:
+		return fmt.Errorf("want a number or a string with a unit, got %T", v)
+	}
+	if math.IsNaN(q.V) || math.IsInf(q.V, 0) {
+		return fmt.Errorf("not a finite number")
+	}
+	q.Set = true
+	return nil
+}
+
+// Setup is a test series' setup file.
+type Setup struct {
+	Series    string         `toml:"series"`
+	Nominal   NominalSetup   `toml:"nominal"`
+	Tolerance ToleranceSetup `toml:"tolerance"`
+	Method    MethodSetup    `toml:"method"`
+	Generator GeneratorSetup `toml:"generator"`
+	Read      ReadSetup      `toml:"read"`
+	Channels  []ChannelSetup `toml:"channel"`
+	Path      string         `toml:"-"` // where it was read from, for the report
+	Text      string         `toml:"-"` // as written, for the report
+}
+
+// NominalSetup is the [nominal] table.
+type NominalSetup struct {
+	Shape       string   `toml:"shape"`
+	TestVoltage Quantity `toml:"test_voltage"`
+	Chopped     bool     `toml:"chopped"`
+}
+
+// ToleranceSetup is the [tolerance] table, in percent.
+type ToleranceSetup struct {
+	TestVoltage_pct   *float64 `toml:"test_voltage_pct"`
+	FrontTime_pct     *float64 `toml:"front_time_pct"`
+	TimeToHalf_pct    *float64 `toml:"time_to_half_pct"`
+	OvershootMax_pct  *float64 `toml:"overshoot_max_pct"`
+	TimeToPeak_pct    *float64 `toml:"time_to_peak_pct"`
+	SwitchingHalf_pct *float64 `toml:"switching_time_to_half_pct"`
+}
+
+// MethodSetup is the [method] table.
+type MethodSetup struct {
+	FitFrom       *float64 `toml:"fit_from"`
+	FitTo         *float64 `toml:"fit_to"`
+	OvershootOver string   `toml:"overshoot_over"`
+	Shape         string   `toml:"force_shape"`
+}
+
+// GeneratorSetup is the [generator] table.
+type GeneratorSetup struct {
+	Stages          int      `toml:"stages"`
+	ChargingVoltage Quantity `toml:"charging_voltage"`
+}
+
+// ReadSetup is the [read] table: what files may not say about themselves.
+type ReadSetup struct {
+	Interval   Quantity `toml:"interval"`
+	TimeColumn string   `toml:"time_column"`
+}
+
+// ChannelSetup is one [[channel]] table, or one --role given on the command line.
+type ChannelSetup struct {
+	Name     string        `toml:"name"`  // the name this channel gets in the results
+	Match    string        `toml:"match"` // file channel name or pattern (path.Match)
+	Index    int           `toml:"index"` // 1-based column or channel number
+	Role     Role          `toml:"role"`
+	Ratio    Quantity      `toml:"ratio"` // multiply the recorded values (divider ratio x probe attenuation)
+	DroopTau Quantity      `toml:"droop_tau"`
+	Optional bool          `toml:"optional"` // files without this channel are not an error
+	Coil     *CoilSetup    `toml:"coil"`
+	Antenna  *AntennaSetup `toml:"antenna"`
+	line     int
+}
+
+var reDecodeErr = regexp.MustCompile(`line (\d+) \(last key "([^"]*)"\): (.*)`)
+
+// SetupError names the setup file, line and key.
+type SetupError struct {
+	File string
+	Line int
+	Key  string
+	Msg  string
+}
+
+func (e *SetupError) Error() string {
+	if e.Line > 0 {
+		return fmt.Sprintf("%s:%d: %s: %s", e.File, e.Line, e.Key, e.Msg)
+	}
+	if e.Key != "" {
+		return fmt.Sprintf("%s: %s: %s", e.File, e.Key, e.Msg)
+	}
+	return fmt.Sprintf("%s: %s", e.File, e.Msg)
+}
+
+// keyLine finds the line of a dotted key in TOML text: the table header, then the key.
+func keyLine(text string, key toml.Key) int {
+	sc := bufio.NewScanner(strings.NewReader(text))
+	table := ""
+	want := key[len(key)-1]
+	parent := strings.Join(key[:len(key)-1], ".")
+	no := 0
+	for sc.Scan() {
+		no++
+		l := strings.TrimSpace(sc.Text())
+		if strings.HasPrefix(l, "[") {
+			table = strings.Trim(l, "[] ")
+			continue
+		}
+		if i := strings.IndexByte(l, '='); i > 0 && strings.TrimSpace(l[:i]) == want && (table == parent || parent == "" && table == "") {
+			return no
+		}
+	}
+	return 0
+}
+
+// ParseSetup decodes setup text; file names it in messages. Unknown keys, wrong types
+// and missing or inconsistent values are errors naming the key and the line.
+func ParseSetup(b []byte, file string) (*Setup, error) {
+	var s Setup
+	md, err := toml.NewDecoder(bytes.NewReader(b)).Decode(&s)
+	if err != nil {
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			return nil, &SetupError{File: file, Line: pe.Position.Line, Key: pe.LastKey, Msg: pe.Message}
+		}
+		// decode errors read "toml: line N (last key "k"): message"
+		if m := reDecodeErr.FindStringSubmatch(err.Error()); m != nil {
+			line, _ := strconv.Atoi(m[1])
+			return nil, &SetupError{File: file, Line: line, Key: m[2], Msg: m[3]}
+		}
+		return nil, &SetupError{File: file, Msg: strings.TrimPrefix(err.Error(), "toml: ")}
+	}
+	text := string(b)
+	if und := md.Undecoded(); len(und) > 0 {
+		k := und[0]
+		return nil, &SetupError{File: file, Line: keyLine(text, k), Key: k.String(), Msg: "unknown key"}
+	}
+	s.Path, s.Text = file, text
+	// channel table lines, for later messages
+	no, ch := 0, 0
+	sc := bufio.NewScanner(strings.NewReader(text))
+	for sc.Scan() {
+		no++
+		if strings.TrimSpace(sc.Text()) == "[[channel]]" && ch < len(s.Channels) {
+			s.Channels[ch].line = no
+			ch++
+		}
+	}
+	bad := func(line int, key, format string, a ...any) error {
+		return &SetupError{File: file, Line: line, Key: key, Msg: fmt.Sprintf(format, a...)}
+	}
+	at := func(k ...string) int { return keyLine(text, toml.Key(k)) }
+	if s.Nominal.Shape != "" {
+		if _, err := impulse.ParseNominal(s.Nominal.Shape); err != nil {
+			return nil, bad(at("nominal", "shape"), "nominal.shape", "%v", err)
+		}
+	}
+	switch s.Method.OvershootOver {
+	case "", "extreme", "base":
+	default:
+		return nil, bad(at("method", "overshoot_over"), "method.overshoot_over", "\"extreme\" or \"base\", not %q", s.Method.OvershootOver)
+	}
+	switch impulse.Shape(s.Method.Shape) {
+	case "", impulse.LightningFull, impulse.LightningChopped, impulse.Switching:
+	default:
+		return nil, bad(at("method", "force_shape"), "method.force_shape", "lightning-full, lightning-chopped or switching, not %q", s.Method.Shape)
+	}
+	if s.Generator.Stages < 0 {
+		return nil, bad(at("generator", "stages"), "generator.stages", "must be positive")
+	}
+	switch s.Read.TimeColumn {
+	case "", "auto", "first", "none":
+	default:
+		return nil, bad(at("read", "time_column"), "read.time_column", "auto, first or none, not %q", s.Read.TimeColumn)
+	}
+	for i := range s.Channels {
+		c := &s.Channels[i]
+		where := fmt.Sprintf("channel %d", i+1)
+		if c.Match == "" && c.Index == 0 {
+			return nil, bad(c.line, where, "needs match (a name or pattern) or index")
+		}
+		if c.Role == "" {
+			return nil, bad(c.line, where+".role", "missing: divider, coil or antenna")
+		}
+		if err := c.Check(); err != nil {
+			return nil, bad(c.line, where, "%v", err)
+		}
+	}
+	return &s, nil
+}
+
+// Check validates a channel's pattern and sensor description.
+func (c *ChannelSetup) Check() error {
+	if c.Match != "" {
+		if _, err := path.Match(c.Match, ""); err != nil {
+			return fmt.Errorf("match: bad pattern %q", c.Match)
+		}
+	}
+	if c.Ratio.Set && !(c.Ratio.V != 0) {
+		return fmt.Errorf("ratio: must not be zero")
+	}
+	switch c.Role {
+	case Coil:
+		if c.Coil == nil {
+			return fmt.Errorf("role coil needs a coil description ([channel.coil] or --coil)")
+		}
+		if _, err := c.Coil.Model(); err != nil {
+			return fmt.Errorf("coil: %v", err)
+		}
+	case Antenna:
+		if c.Antenna == nil {
+			return fmt.Errorf("role antenna needs an antenna description ([channel.antenna] or --antenna)")
+		}
+		if _, err := c.Antenna.Model(); err != nil {
+			return fmt.Errorf("antenna: %v", err)
+		}
+	}
+	return nil
+}

@@ -1,0 +1,48 @@
+package shot_test
+
+import (
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/hvshot/hvshot/waveform/shot"
+	"github.com/hvshot/hvshot/waveform/synth"
+)
+
+func TestSetupErrorsNameKeyAndLine(t *testing.T) {
+	cases := []struct {
+		name, text string
+		want       []string
+	}{
+		{"unknown key", "series = \"x\"\n[nominal]\nshape = \"1.2/50\"\ncolour = \"red\"\n", []string{"s.toml:4", "colour", "unknown key"}},
+		{"wrong type", "[generator]\nstages = \"eight\"\n", []string{"s.toml:2", "stages"}},
+		{"coil without its table", "[[channel]]\nmatch = \"CH2\"\nrole = \"coil\"\n", []string{"s.toml:1", "coil"}},
+		{"unknown role", "[[channel]]\nmatch = \"CH2\"\nrole = \"bdot\"\n", []string{"s.toml:3", "divider, coil or antenna"}},
+		{"bad shape", "[nominal]\nshape = \"fast\"\n", []string{"s.toml:2", "nominal.shape"}},
+		{"bad forced shape", "[method]\nforce_shape = \"round\"\n", []string{"s.toml:2", "force_shape"}},
+		{"zero ratio", "[[channel]]\nindex = 1\nrole = \"divider\"\nratio = 0\n", []string{"s.toml:1", "ratio"}},
+		{"coil needs its load", "[[channel]]\nindex = 2\nrole = \"coil\"\n[channel.coil]\nmutual = \"1 nH\"\n", []string{"s.toml:1", "load_resistance"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			_, err := shot.ParseSetup([]byte(c.text), "s.toml")
+			require.Error(t, err)
+			for _, w := range c.want {
+				assert.Contains(t, err.Error(), w)
+			}
+		})
+	}
+}
+
+// The demo's setup file is a working example of every table.
+func TestDemoSetupParses(t *testing.T) {
+	s, err := shot.ParseSetup([]byte(synth.DemoSetup), "demo.toml")
+	require.NoError(t, err)
+	require.Len(t, s.Channels, 3)
+	assert.Equal(t, []shot.Role{shot.Divider, shot.Coil, shot.Antenna}, []shot.Role{s.Channels[0].Role, s.Channels[1].Role, s.Channels[2].Role})
+	c := shot.FromSetup(s)
+	assert.InDelta(t, 150e3, c.Nominal.Peak_v, 1e-9)
+	assert.Equal(t, 8, c.Stages)
+	assert.InDelta(t, 22e3, c.Charging_v, 1e-9)
+}

@@ -1,0 +1,221 @@
+package shot_test
+
+import (
+	"context"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/hvshot/hvshot/waveform"
+	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/shot"
+	"github.com/hvshot/hvshot/waveform/synth"
+)
+
+// record is a synthetic 1.2/50 shot (invented for the test) with a coil channel.
+func record(t *testing.T, front_us float64, seed uint64) *waveform.Record {
+	rec, err := synth.Generate(synth.Spec{Front_s: front_us * 1e-6, Tail_s: 50e-6, Peak_v: 300e3, Noise: 0.002, PreTrigger_s: 4e-6,
+		Interval_s: 10e-9, Duration_s: 120e-6, Seed: seed,
+		Coil: &synth.Coil{M_h: 1e-9, L_h: 50e-9, R_ohm: 50, Peak_a: 2e3, Tau1_s: 20e-6, Tau2_s: 1e-6}})
+	require.NoError(t, err)
+	return rec
+}
+
+// Evaluate works on a record in memory and writes nothing: it returns the rows and
+// the curves a plot needs.
+func TestEvaluateReturnsCurvesAndTouchesNoDisk(t *testing.T) {
+	dir := t.TempDir()
+	wd, _ := os.Getwd()
+	require.NoError(t, os.Chdir(dir))
+	defer os.Chdir(wd)
+	cfg := shot.NewConfig()
+	cs := shot.ChannelSetup{Match: "coil", Role: shot.Coil, Coil: &shot.CoilSetup{Mutual: shot.Quantity{V: 1e-9, Set: true},
+		Inductance: shot.Quantity{V: 50e-9, Set: true}, LoadResistance: shot.Quantity{V: 50, Set: true}}}
+	cfg.Roles = []shot.ChannelSetup{cs}
+	s := shot.Evaluate(record(t, 1.2, 1), "day1/shot01.csv", cfg)
+	require.Len(t, s.Rows, 2)
+	require.Len(t, s.Curves, 2)
+	div, coil := s.Rows[0], s.Rows[1]
+	assert.Equal(t, shot.Divider, div.Role)
+	assert.Equal(t, shot.Pass, div.Verdict, div.Error)
+	require.NotNil(t, s.Curves[0].Impulse)
+	assert.Len(t, s.Curves[0].Impulse.TestVoltage, 12001)
+	assert.Equal(t, impulse.StandardLightning.Front_s, s.Curves[0].Nominal.Front_s, "judged against the standard shape")
+	assert.Equal(t, shot.Coil, coil.Role)
+	v, ok := coil.Value(shot.ColPeakCurrent)
+	require.True(t, ok)
+	assert.InEpsilon(t, 2e3, v, 0.01, "the simulated current's peak")
+	assert.Equal(t, "current", s.Curves[1].Quantity)
+	entries, _ := os.ReadDir(dir)
+	assert.Empty(t, entries, "nothing written")
+}
+
+// A channel whose name says it is a sensor is not judged as a divider when nothing
+// describes it; a role that picks no channel is a warning on the file's rows.
+func TestPlanningWithoutSetup(t *testing.T) {
+	cfg := shot.NewConfig()
+	s := shot.Evaluate(record(t, 1.2, 2), "a.csv", cfg)
+	require.Len(t, s.Rows, 2)
+	assert.Equal(t, shot.Pass, s.Rows[0].Verdict)
+	assert.Equal(t, shot.Error, s.Rows[1].Verdict)
+	assert.Contains(t, s.Rows[1].Error, "its name says coil")
+	assert.Contains(t, s.Rows[1].Error, "--role coil=coil")
+
+	require.NoError(t, cfg.AddRole("CH9=coil", "mutual=1nH,inductance=50nH,load_resistance=50", ""))
+	s = shot.Evaluate(record(t, 1.2, 2), "a.csv", cfg)
+	codes := func(r shot.Row) string {
+		var c []string
+		for _, w := range r.Warnings {
+			c = append(c, w.Code+": "+w.Text)
+		}
+		return strings.Join(c, "; ")
+	}
+	assert.Contains(t, codes(s.Rows[0]), "role-unmatched")
+	assert.Contains(t, codes(s.Rows[0]), "divider, coil", "lists the channels the file has")
+
+	// CHn picks the n-th channel when no channel has that name
+	cfg = shot.NewConfig()
+	require.NoError(t, cfg.AddRole("CH2=coil", "mutual=1nH,inductance=50nH,load_resistance=50", ""))
+	s = shot.Evaluate(record(t, 1.2, 2), "a.csv", cfg)
+	require.Len(t, s.Rows, 2)
+	assert.Equal(t, shot.Coil, s.Rows[1].Role)
+	assert.Equal(t, shot.Pass, s.Rows[1].Verdict, s.Rows[1].Error)
+}
+
+// A divider ratio from the configuration scales a low-side capture; without one, a
+// nominal test voltage far above the measurement gets a hint on the row.
+func TestRatioAndLowSideHint(t *testing.T) {
+	rec := record(t, 1.2, 3)
+	synth.Scale(&rec.Channels[0], 1.0/1000)
+	cfg := shot.NewConfig()
+	cfg.Nominal.Peak_v = 300e3
+	s := shot.Evaluate(rec, "a.csv", cfg)
+	assert.Equal(t, shot.Fail, s.Rows[0].Verdict)
+	assert.Equal(t, "ratio-missing", s.Rows[0].Warnings[0].Code)
+	require.NoError(t, cfg.AddRatio("1000"))
+	s = shot.Evaluate(rec, "a.csv", cfg)
+	assert.Equal(t, shot.Pass, s.Rows[0].Verdict)
+	v, _ := s.Rows[0].Value(shot.ColTestVoltage)
+	assert.InEpsilon(t, 300e3, v, 0.01)
+	cfg.Ratio = 0
+	require.NoError(t, cfg.AddRatio("CH1=1000"))
+	s = shot.Evaluate(rec, "a.csv", cfg)
+	assert.Equal(t, shot.Pass, s.Rows[0].Verdict)
+	assert.Error(t, cfg.AddRatio("CH1=-2"))
+	assert.Error(t, cfg.AddRatio("x"))
+}
+
+// Every key a JSON object has is a CSV column; the flag that JSON writes as true the
+// CSV writes as "true".
+func TestRowEncodingsAgree(t *testing.T) {
+	r := shot.Evaluate(record(t, 1.2, 4), "a.csv", shot.NewConfig()).Rows[0]
+	r.DroopEstimated = true
+	b, err := json.Marshal(&r)
+	require.NoError(t, err)
+	var m map[string]any
+	require.NoError(t, json.Unmarshal(b, &m))
+	header, cells := shot.CSVHeader(), r.CSVRecord()
+	require.Len(t, cells, len(header))
+	for i, k := range header {
+		v, ok := m[k]
+		if !ok {
+			assert.Empty(t, cells[i], "%s absent from JSON, empty in CSV", k)
+			continue
+		}
+		switch x := v.(type) {
+		case float64:
+			assert.InEpsilon(t, x, must(t, cells[i]), 1e-9, k)
+		case bool:
+			assert.Equal(t, "true", cells[i], k)
+		case string:
+			assert.Equal(t, x, cells[i], k)
+		}
+	}
+	assert.Equal(t, true, m["droop_tau_estimated"])
+}
+
+func must(t *testing.T, s string) float64 {
+	var v float64
+	require.NoError(t, json.Unmarshal([]byte(s), &v), s)
+	return v
+}
+
+func TestIdentities(t *testing.T) {
+	cases := []struct {
+		in, want []string
+	}{
+		{[]string{"/x/day1/shot01.csv", "/x/day2/shot01.csv", "/x/day1/shot01.npy"}, []string{"day1/shot01.csv", "day2/shot01.csv", "day1/shot01.npy"}},
+		{[]string{"/x/shots/a.csv", "/x/shots/b.csv"}, []string{"a.csv", "b.csv"}},
+		{[]string{"/x/shots/a.csv"}, []string{"a.csv"}},
+		{[]string{"/x/a/b/c.csv", "/x/a/d.csv"}, []string{"b/c.csv", "d.csv"}},
+		{[]string{"/a.csv", "/y/a.csv"}, []string{"a.csv", "y/a.csv"}},
+	}
+	for _, c := range cases {
+		got := shot.Identities(c.in)
+		assert.Equal(t, c.want, got, c.in)
+		plots := map[string]bool{}
+		for _, id := range got {
+			plots[shot.PlotPath(id, 0, "divider", "svg")] = true
+		}
+		assert.Len(t, plots, len(c.in), "plot files unique")
+	}
+	assert.Equal(t, "plots/day1/shot01.csv.2-CH_2_.svg", shot.PlotPath("day1/shot01.csv", 1, "CH 2?", "svg"))
+	assert.NotEqual(t, shot.Anchor("a b.csv", 0), shot.Anchor("a_b.csv", 0))
+	wd, _ := os.Getwd()
+	got := shot.Identities([]string{"x.csv", filepath.Join(wd, "y", "z.csv")})
+	assert.Equal(t, []string{"x.csv", "y/z.csv"}, got, "relative paths count from the working folder")
+}
+
+// The series statistics: mean and sample standard deviation (n - 1), checked against
+// values computed by hand for 1, 2, 3, 4 (mean 2.5, sd sqrt(5/3) = 1.2909944...).
+func TestSeriesStatistics(t *testing.T) {
+	cfg := shot.NewConfig()
+	series := shot.NewSeries("s")
+	var uts []float64
+	for i := 1; i <= 4; i++ {
+		rec := record(t, 1.2, uint64(10+i))
+		synth.Scale(&rec.Channels[0], float64(i))
+		sh := shot.Evaluate(rec, "a.csv", cfg)
+		v, _ := sh.Rows[0].Value(shot.ColTestVoltage)
+		uts = append(uts, v)
+		series.Add(sh)
+	}
+	sum := series.Summary()
+	assert.Equal(t, 4, sum.Files)
+	assert.Equal(t, 8, sum.Rows, "a divider and a coil row each")
+	var st shot.Stat
+	for _, s := range sum.Stats {
+		if s.Key == "test_voltage_v" {
+			st = s
+		}
+	}
+	require.Equal(t, 4, st.N)
+	mean := (uts[0] + uts[1] + uts[2] + uts[3]) / 4
+	var ss float64
+	for _, u := range uts {
+		ss += (u - mean) * (u - mean)
+	}
+	assert.InEpsilon(t, mean, st.Mean, 1e-12)
+	assert.InEpsilon(t, math.Sqrt(ss/3), st.SD, 1e-9)
+	assert.InEpsilon(t, math.Sqrt(5.0/3)*300e3, st.SD, 0.02, "the hand-computed spread of 1, 2, 3, 4 x 300 kV")
+}
+
+// RunOrdered hands results back in order, whatever order the workers finish in.
+func TestRunOrdered(t *testing.T) {
+	var got []int
+	stopped := shot.RunOrdered(context.Background(), 50, 4, func(i int) int { return i * i }, func(i, v int) {
+		assert.Equal(t, i*i, v)
+		got = append(got, i)
+	})
+	assert.False(t, stopped)
+	require.Len(t, got, 50)
+	for i, v := range got {
+		assert.Equal(t, i, v)
+	}
+}
