@@ -34,7 +34,6 @@ const exitText = `exit status: 0 all shots evaluated and within tolerance, 1 som
 2 some file could not be read or evaluated, 64 usage error, 130 interrupted (what was
 done is written).`
 
-
 // command is a subcommand: its flags and what it does with the arguments; its help
 // text is help/NAME.txt.
 type command struct {

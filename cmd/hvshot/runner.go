@@ -5,11 +5,13 @@ import (
 	"bytes"
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"io/fs"
 	"os"
 	"path/filepath"
+	"strings"
 	"time"
 
 	"github.com/hvshot/hvshot/readers"
@@ -95,7 +97,8 @@ func (w *worker) do(in input) (shots []*shot.Shot) {
 	}()
 	recs, err := readers.ReadFileAll(in.path, w.read)
 	if err != nil {
-		return []*shot.Shot{shot.Failed(in.id, err)}
+		// named as the rows name it: by its identity
+		return []*shot.Shot{shot.Failed(in.id, errors.New(strings.Replace(err.Error(), in.path, in.id, 1)))}
 	}
 	for _, rec := range recs {
 		id := in.id

@@ -15,7 +15,6 @@ import (
 	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/report"
-	"github.com/hvshot/hvshot/waveform/shot"
 	"github.com/hvshot/hvshot/waveform/synth"
 )
 
@@ -200,29 +199,16 @@ func demoCommand(fs *flag.FlagSet) func([]string, *env) int {
 
 // writeDemo writes the invented demo series into dir.
 func writeDemo(dir string) error {
-	if err := os.MkdirAll(dir, 0o755); err != nil {
-		return err
+	files, err := synth.DemoFiles()
+	if err == nil {
+		err = os.MkdirAll(dir, 0o755)
 	}
-	if err := writeAtomic(filepath.Join(dir, shot.SetupFileName), []byte(synth.DemoSetup)); err != nil {
-		return err
-	}
-	for _, d := range synth.Demo() {
-		p := filepath.Join(dir, d.File)
-		if d.Garbage != nil {
-			if err := writeAtomic(p, d.Garbage); err != nil {
-				return err
-			}
-			continue
-		}
-		rec, err := d.Record()
+	for _, f := range files {
 		if err == nil {
-			err = writeCapture(p, d.Format, rec)
-		}
-		if err != nil {
-			return fmt.Errorf("%s: %v", d.File, err)
+			err = writeAtomic(filepath.Join(dir, f.Name), f.Data)
 		}
 	}
-	return nil
+	return err
 }
 
 func selfcheckCommand(fs *flag.FlagSet) func([]string, *env) int {

@@ -54,6 +54,9 @@ type sources struct {
 	droop_s    float64 // a divider's droop constant from its description
 }
 
+// newSources has nothing to give: every number absent.
+func newSources() *sources { return &sources{efficiency: math.NaN(), droop_s: math.NaN()} }
+
 func fromImpulse(f func(*impulse.Result) float64) func(*sources) float64 {
 	return func(s *sources) float64 {
 		if s.imp == nil {

@@ -3,7 +3,6 @@ package shot
 import (
 	"errors"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 
@@ -41,7 +40,7 @@ func Failed(id string, err error) *Shot {
 
 func errorRow(id, msg string) Row {
 	r := Row{File: id, Verdict: Error, Error: msg}
-	r.fill(&sources{})
+	r.fill(newSources())
 	return r
 }
 
@@ -70,7 +69,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		label = cs.Name
 	}
 	row := Row{File: id, Channel: label, Role: cs.Role}
-	src := &sources{efficiency: math.NaN(), droop_s: math.NaN()}
+	src := newSources()
 	fail := func(err error) (Row, *Curves) {
 		row.Verdict, row.Error = Error, fmt.Sprintf("%s: channel %s: %v", id, label, err)
 		row.fill(src)

@@ -1,6 +1,9 @@
 package shot
 
-import "math"
+import (
+	"math"
+	"slices"
+)
 
 // Stat is the spread of one parameter over a series, in SI.
 type Stat struct {
@@ -89,7 +92,16 @@ func (s *Series) Add(sh *Shot) {
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
 	out := Summary{Series: s.name, Files: s.files, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Stats: []Stat{}}
-	for _, c := range Columns {
+	// in the per-shot tables' order, then the rest in the column table's
+	cols := slices.Clone(Columns)
+	rank := func(c *Column) int {
+		if c.Console > 0 {
+			return c.Console
+		}
+		return len(Columns) + c.index
+	}
+	slices.SortStableFunc(cols, func(a, b *Column) int { return rank(a) - rank(b) })
+	for _, c := range cols {
 		w := s.acc[c.index]
 		if c.Stat == "" || w.n == 0 {
 			continue

@@ -3,6 +3,7 @@ package shot_test
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"math"
 	"os"
 	"path/filepath"
@@ -218,4 +219,18 @@ func TestRunOrdered(t *testing.T) {
 	for i, v := range got {
 		assert.Equal(t, i, v)
 	}
+}
+
+// A shot that could not be read has a row with its error and no numbers at all.
+func TestFailedShotHasNoNumbers(t *testing.T) {
+	s := shot.Failed("day1/x.csv", errors.New("day1/x.csv:3: not a number"))
+	require.Len(t, s.Rows, 1)
+	b, err := json.Marshal(&s.Rows[0])
+	require.NoError(t, err)
+	assert.JSONEq(t, `{"file":"day1/x.csv","verdict":"error","failures":[],"warnings":[],"error":"day1/x.csv:3: not a number"}`, string(b))
+	series := shot.NewSeries("")
+	series.Add(s)
+	sum := series.Summary()
+	assert.Equal(t, 1, sum.Errors)
+	assert.Empty(t, sum.Stats, "an error row adds to no statistic")
 }

@@ -1,11 +1,15 @@
 package synth
 
 import (
+	"bytes"
 	_ "embed"
+	"fmt"
 	"math/rand/v2"
 
+	"github.com/hvshot/hvshot/readers"
 	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/probe"
+	"github.com/hvshot/hvshot/waveform/shot"
 )
 
 // DemoSetup is the invented demo series' setup file, written beside its captures.
@@ -104,4 +108,39 @@ func Scale(c *waveform.Channel, k float64) {
 		c.Samples[i] *= k
 	}
 	c.RangeMin, c.RangeMax = c.RangeMin*k, c.RangeMax*k
+}
+
+// DemoFile is one file of the demo folder, as it is written.
+type DemoFile struct {
+	Name string
+	Data []byte
+}
+
+// DemoFiles returns the demo folder's files: the setup file, then each capture in its
+// format (a raw capture followed by its description).
+func DemoFiles() ([]DemoFile, error) {
+	files := []DemoFile{{shot.SetupFileName, []byte(DemoSetup)}}
+	for _, d := range Demo() {
+		if d.Garbage != nil {
+			files = append(files, DemoFile{d.File, d.Garbage})
+			continue
+		}
+		rec, err := d.Record()
+		if err != nil {
+			return nil, fmt.Errorf("%s: %v", d.File, err)
+		}
+		var b bytes.Buffer
+		spec, err := readers.Encode(&b, d.Format, rec)
+		if err != nil {
+			return nil, fmt.Errorf("%s: %v", d.File, err)
+		}
+		files = append(files, DemoFile{d.File, b.Bytes()})
+		if spec != nil {
+			var side bytes.Buffer
+			readers.WriteSidecar(&side, *spec)
+			side.WriteString("# invented demo capture, not a measurement\n")
+			files = append(files, DemoFile{d.File + readers.SidecarSuffix, side.Bytes()})
+		}
+	}
+	return files, nil
 }
