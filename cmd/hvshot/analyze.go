@@ -95,7 +95,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
-	out, err := outputFolder(o.out, inputs, o.force || watch)
+	out, err := outputFolder(o.out, inputs, o.force || watch, o.force && !watch)
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}

@@ -49,10 +49,15 @@ func ownOutput(dir string) bool {
 	return err == nil
 }
 
-// outputFolder picks the output folder: the one asked for, which must not hold another
-// run's report unless replace is set; or a new folder next to the inputs, with a
-// number added until the name is free, so that two runs never collide.
-func outputFolder(out string, inputs []string, replace bool) (string, error) {
+// outputs are the files and folder a run writes into its output folder.
+var outputs = []string{"results.csv", "results.jsonl", "summary.json", "report.html", "plots"}
+
+// outputFolder picks the output folder and marks it as hvshot's. Asked for one, it
+// takes it when it is new, empty or marked as an earlier run's; it never takes a folder
+// with files hvshot did not write. An earlier run's report stays unless replace is
+// set, and clean then removes that run's outputs so that runs never mix. Not asked,
+// it makes a new folder next to the inputs, numbered until the name is free.
+func outputFolder(out string, inputs []string, replace, clean bool) (string, error) {
 	if out == "" {
 		// beside a folder given, or in the folder of a file given
 		stem := filepath.Join(filepath.Dir(filepath.Clean(inputs[0])), "hvshot-report-"+time.Now().Format("20060102-150405"))
@@ -65,18 +70,33 @@ func outputFolder(out string, inputs []string, replace bool) (string, error) {
 			}
 			out = fmt.Sprintf("%s-%d", stem, n)
 		}
-	} else if st, err := os.Stat(out); err == nil {
-		if !st.IsDir() {
-			return "", fmt.Errorf("--out %s exists and is not a folder", out)
+	} else if entries, err := os.ReadDir(out); err == nil {
+		switch {
+		case ownOutput(out):
+			if _, err := os.Stat(filepath.Join(out, "report.html")); err == nil && !replace {
+				return "", fmt.Errorf("%s already holds a report; use --force to replace it or choose another --out", out)
+			}
+			for _, name := range outputs {
+				if clean {
+					if err := os.RemoveAll(filepath.Join(out, name)); err != nil {
+						return "", err
+					}
+				}
+			}
+		case len(entries) > 0:
+			var names []string
+			for _, e := range entries[:min(3, len(entries))] {
+				names = append(names, e.Name())
+			}
+			return "", fmt.Errorf("--out %s holds files hvshot did not write (%s, ...); give a new or empty folder, e.g. --out %s", out, strings.Join(names, ", "), filepath.Join(out, "hvshot-report"))
 		}
-		if _, err := os.Stat(filepath.Join(out, "report.html")); err == nil && !replace {
-			return "", fmt.Errorf("%s already holds a report; use --force to replace it or choose another --out", out)
-		}
+	} else if st, serr := os.Stat(out); serr == nil && !st.IsDir() {
+		return "", fmt.Errorf("--out %s exists and is not a folder", out)
 	}
 	if err := os.MkdirAll(out, 0o755); err != nil {
 		return "", err
 	}
-	return out, writeAtomic(filepath.Join(out, markerName), []byte("hvshot output folder\n"))
+	return out, writeAtomic(filepath.Join(out, markerName), []byte("hvshot output folder: hvshot may replace what it wrote here\n"))
 }
 
 // worker reads, evaluates and plots one capture at a time.

@@ -112,6 +112,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	for _, w := range rec.Warnings {
 		row.Warnings = append(row.Warnings, Warning{"reader", w})
 	}
+	row.Warnings = append(row.Warnings, recordPlausible(rec)...)
 	dt, t0 := rec.Interval_s, rec.Start_s
 	switch cs.Role {
 	case Coil, Antenna:
@@ -159,6 +160,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		src.efficiency = r.TestVoltage_v / (float64(cfg.Stages) * cfg.Charging_v)
 	}
 	row.Warnings = appendWarnings(row.Warnings, r.Warnings)
+	row.Warnings = append(row.Warnings, impulsePlausible(r)...)
 	nom := cfg.Nominal.For(r.Shape)
 	if nom.Peak_v > 0 && r.TestVoltage_v < 0.01*nom.Peak_v {
 		row.Warnings = append(row.Warnings, Warning{"ratio-missing", fmt.Sprintf("the test voltage %.4g V is below 1 %% of the nominal %.4g kV: a low-side capture? give the divider ratio (--ratio, or ratio in the setup file)", r.TestVoltage_v, nom.Peak_v/1e3)})

@@ -234,3 +234,28 @@ func TestFailedShotHasNoNumbers(t *testing.T) {
 	assert.Equal(t, 1, sum.Errors)
 	assert.Empty(t, sum.Stats, "an error row adds to no statistic")
 }
+
+// A time base a million times too long (microseconds read as seconds) is never a
+// silent pass: the record and the times get warnings naming the likely slip, and the
+// impulse fails against the standard shape.
+func TestImplausibleTimeBaseWarns(t *testing.T) {
+	rec := record(t, 1.2, 5)
+	rec.Interval_s *= 1e6
+	rec.Start_s *= 1e6
+	s := shot.Evaluate(rec, "a.csv", shot.NewConfig())
+	r := s.Rows[0]
+	var texts []string
+	for _, w := range r.Warnings {
+		if w.Code == "time-implausible" {
+			texts = append(texts, w.Text)
+		}
+	}
+	require.NotEmpty(t, texts)
+	assert.Contains(t, strings.Join(texts, " "), "microseconds read as seconds")
+	assert.NotEqual(t, shot.Pass, r.Verdict)
+	// an ordinary record has no such warning
+	r = shot.Evaluate(record(t, 1.2, 5), "a.csv", shot.NewConfig()).Rows[0]
+	for _, w := range r.Warnings {
+		assert.NotEqual(t, "time-implausible", w.Code)
+	}
+}

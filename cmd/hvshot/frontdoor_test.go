@@ -1,0 +1,156 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/shot"
+)
+
+// A folder scan takes captures only: notes, a screenshot and an earlier report are
+// left out and named on stderr; a file named on the command line still gets its row.
+func TestFolderScanTakesCapturesOnly(t *testing.T) {
+	dir := t.TempDir()
+	writeShot(t, filepath.Join(dir, "a.csv"), spec(1.2, 50, 300e3, 1), "text")
+	writeShot(t, filepath.Join(dir, "b.npy"), spec(1.2, 50, 300e3, 2), "npy")
+	notes := filepath.Join(dir, "notes.txt")
+	require.NoError(t, os.WriteFile(notes, []byte("Bay 2, shots fired after lunch.\nShot 3: the earth switch was checked twice.\nCharging 22 kV per stage.\n"), 0o644))
+	// the first bytes of a PNG file (its signature and header chunk) stand for a scope screenshot
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "screen.png"), []byte("\x89PNG\r\n\x1a\n\x00\x00\x00\rIHDR\x00\x00\x03\x20"), 0o644))
+	// an earlier run's report folder inside the captures folder
+	code, _, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--out", filepath.Join(dir, "earlier"), dir)
+	require.Equal(t, exitOK, code, stderr)
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "export.csv"), mustRead(t, filepath.Join(dir, "earlier", "results.csv")), 0o644))
+	code, out, stderr := runCmd("analyze", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(t.TempDir(), "o"), dir)
+	assert.Equal(t, exitOK, code, stderr)
+	assert.Equal(t, 2, strings.Count(out, "\n"), "two captures, two rows: %s", out)
+	assert.Contains(t, stderr, "skipped 3 files that are not captures")
+	assert.Contains(t, stderr, "notes.txt (text with no lines of numbers)")
+	assert.Contains(t, stderr, "screen.png (a PNG image)")
+	assert.Contains(t, stderr, "export.csv (an hvshot result file)")
+	// named explicitly, it is read, and its error says why
+	code, out, _ = runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(t.TempDir(), "o"), notes)
+	assert.Equal(t, exitFileErrors, code)
+	assert.Contains(t, out, `"verdict":"error"`)
+	assert.Contains(t, out, "notes.txt")
+}
+
+// --out never takes a folder holding files hvshot did not write: the captures stay as
+// they were and the message says what to do instead.
+func TestOutIntoCapturesFolderRefused(t *testing.T) {
+	dir := t.TempDir()
+	writeShot(t, filepath.Join(dir, "a.csv"), spec(1.2, 50, 300e3, 1), "text")
+	writeShot(t, filepath.Join(dir, "results.csv"), spec(1.2, 50, 300e3, 2), "text") // a capture under an output's name
+	before := hashDir(t, dir)
+	code, out, stderr := runCmd("analyze", "--quiet", "--out", dir, dir)
+	assert.Equal(t, exitUsage, code, out)
+	assert.Contains(t, stderr, "holds files hvshot did not write")
+	assert.Contains(t, stderr, "--out "+filepath.Join(dir, "hvshot-report"))
+	assert.Equal(t, before, hashDir(t, dir), "inputs untouched")
+	// --force does not change that
+	code, _, _ = runCmd("analyze", "--quiet", "--force", "--out", dir, dir)
+	assert.Equal(t, exitUsage, code)
+	assert.Equal(t, before, hashDir(t, dir))
+}
+
+// --force replaces the earlier run's outputs completely: no plot of the earlier run
+// stays beside the new ones.
+func TestForceReplacesEarlierRun(t *testing.T) {
+	dir, out := t.TempDir(), filepath.Join(t.TempDir(), "out")
+	writeShot(t, filepath.Join(dir, "a.csv"), spec(1.2, 50, 300e3, 1), "text")
+	code, _, stderr := runCmd("analyze", "--quiet", "--out", out, dir)
+	require.Equal(t, exitOK, code, stderr)
+	require.NoError(t, os.Rename(filepath.Join(dir, "a.csv"), filepath.Join(dir, "b.csv")))
+	code, _, stderr = runCmd("analyze", "--quiet", "--force", "--out", out, dir)
+	require.Equal(t, exitOK, code, stderr)
+	var plots []string
+	filepath.WalkDir(filepath.Join(out, "plots"), func(p string, d os.DirEntry, err error) error {
+		if err == nil && !d.IsDir() {
+			plots = append(plots, filepath.Base(p))
+		}
+		return nil
+	})
+	assert.Equal(t, []string{"b.csv.1-divider.svg"}, plots)
+}
+
+// Two runs in the same second with the default output folder each get their own.
+func TestDefaultOutputNeverCollides(t *testing.T) {
+	dir := t.TempDir()
+	caps := filepath.Join(dir, "caps")
+	require.NoError(t, os.MkdirAll(caps, 0o755))
+	writeShot(t, filepath.Join(caps, "a.csv"), spec(1.2, 50, 300e3, 1), "text")
+	var reports []string
+	for i := 0; i < 3; i++ {
+		code, _, stderr := runCmd("analyze", "--plots", "none", caps)
+		require.Equal(t, exitOK, code, stderr)
+		reports = append(reports, strings.TrimSpace(strings.TrimPrefix(stderr[strings.LastIndex(stderr, "report: "):], "report: ")))
+	}
+	assert.Len(t, map[string]bool{reports[0]: true, reports[1]: true, reports[2]: true}, 3, reports)
+	for _, r := range reports {
+		assert.FileExists(t, r)
+		assert.Equal(t, dir, filepath.Dir(filepath.Dir(r)), "beside the captures folder")
+	}
+}
+
+// watch evaluates a file once it is complete, replaces a file's rows when it changes,
+// and counts files.
+func TestWatchWaitsForCompleteFiles(t *testing.T) {
+	if testing.Short() {
+		t.Skip("waits for quiet periods")
+	}
+	dir, out := t.TempDir(), filepath.Join(t.TempDir(), "out")
+	require.NoError(t, os.MkdirAll(out, 0o755))
+	full := filepath.Join(t.TempDir(), "full.csv")
+	writeShot(t, full, spec(1.2, 50, 300e3, 9), "text")
+	data := mustRead(t, full)
+	w := &worker{cfg: shot.NewConfig(), plots: report.NoPlot, out: out}
+	ctx, cancel := context.WithCancel(context.Background())
+	done := make(chan int)
+	var stdout, stderr bytes.Buffer
+	go func() {
+		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &env{nil, &stdout, &stderr})
+	}()
+	p := filepath.Join(dir, "slow.csv")
+	// written in two parts 1.5 s apart, as a slow copy over the network would
+	require.NoError(t, os.WriteFile(p, data[:len(data)/2], 0o644))
+	time.Sleep(1500 * time.Millisecond)
+	f, err := os.OpenFile(p, os.O_APPEND|os.O_WRONLY, 0)
+	require.NoError(t, err)
+	f.Write(data[len(data)/2:])
+	f.Close()
+	waitFor := func(cond func() bool) {
+		deadline := time.Now().Add(20 * time.Second)
+		for time.Now().Before(deadline) && !cond() {
+			time.Sleep(100 * time.Millisecond)
+		}
+	}
+	waitFor(func() bool { return strings.Contains(stdout.String(), "slow.csv") })
+	time.Sleep(500 * time.Millisecond)
+	assert.Equal(t, 1, strings.Count(stdout.String(), "slow.csv"), "evaluated once, when whole: %s", stdout.String())
+	assert.Contains(t, stdout.String(), `"verdict":"pass"`)
+	// rewritten with another shot: its row replaces the old one
+	require.NoError(t, os.WriteFile(p+".tmp", mustRead(t, full), 0o644))
+	time.Sleep(1100 * time.Millisecond) // a new modification time
+	writeShot(t, p+".new", spec(1.9, 50, 300e3, 10), "text")
+	require.NoError(t, os.Rename(p+".new", p))
+	os.Remove(p + ".tmp")
+	waitFor(func() bool { return strings.Count(stdout.String(), "slow.csv") >= 2 })
+	cancel()
+	assert.Equal(t, exitInterrupted, <-done)
+	b := mustRead(t, filepath.Join(out, "results.jsonl"))
+	assert.Equal(t, 1, strings.Count(string(b), "slow.csv"), "one row for one file")
+	assert.Contains(t, string(b), `"failures":["front_time"]`, "the new shot's row")
+	var sum shot.Summary
+	require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
+	assert.Equal(t, 1, sum.Files)
+}
