@@ -6,12 +6,10 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"fmt"
-	"math"
 	"os"
 	"os/signal"
 	"path/filepath"
 	"runtime"
-	"strconv"
 	"strings"
 	"syscall"
 	"time"
@@ -19,7 +17,6 @@ import (
 	flag "github.com/spf13/pflag"
 
 	"github.com/hvshot/hvshot/readers"
-	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/report"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
@@ -218,45 +215,17 @@ func configure(o *analyzeOpts, inputs []string) (*shot.Config, readers.Options, 
 			rd.TimeColumn = s.Read.TimeColumn
 		}
 	}
-	if o.nominal != "" {
-		n, err := impulse.ParseNominal(o.nominal)
-		if err != nil {
-			return nil, rd, fmt.Errorf("--nominal: %v", err)
+	for _, set := range []struct{ flag, key, value string }{{"nominal", "nominal", o.nominal}, {"peak", "peak", o.peak},
+		{"chopped", "chopped", map[bool]string{true: "true"}[o.chopped]}, {"overshoot-over", "overshoot_over", o.overOver},
+		{"stages", "stages", o.stages}, {"charging", "charging", o.charging}} {
+		if set.value != "" {
+			if err := cfg.Set(set.key, set.value); err != nil {
+				return nil, rd, fmt.Errorf("--%s: %v", set.flag, err)
+			}
 		}
-		n.Peak_v, n.Chopped = cfg.Nominal.Peak_v, cfg.Nominal.Chopped
-		cfg.Nominal = n
-	}
-	cfg.Nominal.Chopped = cfg.Nominal.Chopped || o.chopped
-	if o.peak != "" {
-		v, err := quantity("peak", o.peak, "V", "300kV")
-		if err != nil {
-			return nil, rd, err
-		}
-		cfg.Nominal.Peak_v = math.Abs(v)
-	}
-	switch o.overOver {
-	case "":
-	case "extreme", "base":
-		cfg.Settings.OvershootOver = o.overOver
-	default:
-		return nil, rd, fmt.Errorf("--overshoot-over: extreme or base, not %q", o.overOver)
-	}
-	if o.stages != "" {
-		n, err := strconv.Atoi(o.stages)
-		if err != nil || n < 1 {
-			return nil, rd, fmt.Errorf("--stages: a positive whole number, not %q", o.stages)
-		}
-		cfg.Stages = n
-	}
-	if o.charging != "" {
-		v, err := quantity("charging", o.charging, "V", "40kV")
-		if err != nil {
-			return nil, rd, err
-		}
-		cfg.Charging_v = math.Abs(v)
 	}
 	for _, r := range o.ratios {
-		if err := cfg.AddRatio(r); err != nil {
+		if err := cfg.Set("ratio", r); err != nil {
 			return nil, rd, fmt.Errorf("--ratio %v", err)
 		}
 	}

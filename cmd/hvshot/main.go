@@ -203,17 +203,11 @@ func flagHelp(fs *flag.FlagSet) string {
 	return b.String()
 }
 
-// quantity reads a flag's value with its unit: unit is the SI unit it must have ("s",
-// "V"). A bare number is refused so that 5 is never silently 5 s.
-func quantity(flagName, s, unit, example string) (float64, error) {
-	v, u, err := readers.ParseQuantity(s)
-	switch {
-	case err != nil:
-		return 0, fmt.Errorf("--%s: %v; write e.g. %s", flagName, err, example)
-	case u == "":
-		return 0, fmt.Errorf("--%s: %q has no unit; write it with one, e.g. %s", flagName, s, example)
-	case u != unit:
-		return 0, fmt.Errorf("--%s: %q is in %s, not %s; write e.g. %s", flagName, s, u, unit, example)
+// quantity reads a flag's value with its unit (see readers.ParseQuantityIn).
+func quantity(flagName, s, unit string) (float64, error) {
+	v, err := readers.ParseQuantityIn(s, unit)
+	if err != nil {
+		return 0, fmt.Errorf("--%s: %v", flagName, err)
 	}
 	return v, nil
 }
@@ -243,7 +237,7 @@ func (r *readFlags) options() (readers.Options, error) {
 		return opt, fmt.Errorf("--time-column: auto, first or none, not %q", r.timeColumn)
 	}
 	if r.interval != "" {
-		v, err := quantity("interval", r.interval, "s", "2ns")
+		v, err := quantity("interval", r.interval, "s")
 		if err != nil {
 			return opt, err
 		}

@@ -41,7 +41,12 @@ func inspectCommand(fs *flag.FlagSet) func([]string, *env) int {
 		status := exitOK
 		enc := json.NewEncoder(e.stdout)
 		for _, p := range args {
-			recs, err := readers.ReadFileAll(p, opt)
+			var recs []*waveform.Record
+			if p == "-" {
+				recs, err = readers.ReadAll(e.stdin, "stdin", opt)
+			} else {
+				recs, err = readers.ReadFileAll(p, opt)
+			}
 			if err != nil {
 				status = exitFileErrors
 				if *asJSON {
@@ -93,7 +98,7 @@ func synthCommand(fs *flag.FlagSet) func([]string, *env) int {
 			if *qs[name] == "" || err != nil {
 				return 0
 			}
-			v, qerr := quantity(name, *qs[name], unit, map[string]string{"s": "3us", "V": "300kV", "Hz": "1MHz"}[unit])
+			v, qerr := quantity(name, *qs[name], unit)
 			if qerr != nil {
 				err = qerr
 			}

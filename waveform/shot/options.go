@@ -1,0 +1,64 @@
+package shot
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+
+	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform/impulse"
+)
+
+// Set applies one setting given as text, the way a command line or a lab's script
+// gives it; a setting given this way overrides the setup file's:
+//
+//	nominal         front/tail in us: 1.2/50, 250/2500
+//	peak            the nominal test voltage with its unit: 300kV
+//	chopped         true: chopped impulses are intended
+//	overshoot_over  extreme or base: the overshoot's denominator
+//	stages          the generator's stage count
+//	charging        the charging voltage per stage with its unit: 40kV
+//	ratio           a divider ratio for every divider channel (1000) or one (CH1=1000)
+func (c *Config) Set(key, value string) error {
+	switch key {
+	case "nominal":
+		n, err := impulse.ParseNominal(value)
+		if err != nil {
+			return err
+		}
+		n.Peak_v, n.Chopped = c.Nominal.Peak_v, c.Nominal.Chopped
+		c.Nominal = n
+	case "peak", "charging":
+		v, err := readers.ParseQuantityIn(value, "V")
+		if err != nil {
+			return err
+		}
+		if key == "peak" {
+			c.Nominal.Peak_v = math.Abs(v)
+		} else {
+			c.Charging_v = math.Abs(v)
+		}
+	case "chopped":
+		b, err := strconv.ParseBool(value)
+		if err != nil {
+			return fmt.Errorf("true or false, not %q", value)
+		}
+		c.Nominal.Chopped = b
+	case "overshoot_over":
+		if value != "extreme" && value != "base" {
+			return fmt.Errorf("extreme or base, not %q", value)
+		}
+		c.Settings.OvershootOver = value
+	case "stages":
+		n, err := strconv.Atoi(value)
+		if err != nil || n < 1 {
+			return fmt.Errorf("a positive whole number, not %q", value)
+		}
+		c.Stages = n
+	case "ratio":
+		return c.AddRatio(value)
+	default:
+		return fmt.Errorf("no setting %q", key)
+	}
+	return nil
+}
