@@ -1,0 +1,109 @@
+package report_test
+
+import (
+	"bytes"
+	"errors"
+	"math"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/shot"
+	"github.com/hvshot/hvshot/waveform/synth"
+)
+
+func TestFormatDigits(t *testing.T) {
+	cases := []struct {
+		v      float64
+		digits int
+		fixed  bool
+		want   string
+	}{
+		{150.4, 4, false, "150.4"}, {1500.4, 4, false, "1500"}, {1.2191, 4, false, "1.219"}, {18, 4, false, "18.00"},
+		{0, 4, false, "0.000"}, {0.6234, 1, true, "0.6"}, {-0.04, 1, true, "0.0"}, {-5.13, 1, true, "-5.1"},
+		{6.14e-5, 3, false, "6.14e-05"}, {math.NaN(), 4, false, "-"}, {2.5e9, 4, false, "2.5e+09"},
+	}
+	for _, c := range cases {
+		assert.Equal(t, c.want, shot.FormatDigits(c.v, c.digits, c.fixed), "%g", c.v)
+	}
+}
+
+// shots evaluates two invented captures: one within tolerance, one with a slow front.
+func shots(t *testing.T) []*shot.Shot {
+	var out []*shot.Shot
+	for i, front := range []float64{1.2, 1.9} {
+		rec, err := synth.Generate(synth.Spec{Front_s: front * 1e-6, Tail_s: 50e-6, Peak_v: 300e3, PreTrigger_s: 4e-6, Interval_s: 10e-9, Duration_s: 120e-6, Seed: uint64(i)})
+		require.NoError(t, err)
+		out = append(out, shot.Evaluate(rec, []string{"day1/a.csv", "day2/a.csv"}[i], shot.NewConfig()))
+	}
+	return out
+}
+
+// The report holds every row with its anchor and its own plot, failing shots first,
+// and the safety cautions; a plot that cannot be read is said so, not left out silently.
+func TestHTML(t *testing.T) {
+	ss := shots(t)
+	var rows []shot.Row
+	series := shot.NewSeries("invented series")
+	plots := map[string]string{}
+	for _, s := range ss {
+		var b bytes.Buffer
+		require.NoError(t, report.Plot(&b, s.Curves[0], s.ID, report.SVG))
+		s.Rows[0].Plot = shot.PlotPath(s.ID, 0, s.Rows[0].Channel, "svg")
+		plots[s.Rows[0].Plot] = b.String()
+		rows = append(rows, s.Rows...)
+		series.Add(s)
+	}
+	rows = append(rows, shot.Failed("day3/broken.csv", errors.New("day3/broken.csv:7: not a number")).Rows...)
+	rows[len(rows)-1].Plot = "plots/missing.svg"
+	var b bytes.Buffer
+	err := report.HTML(&b, report.Page{Summary: series.Summary(), Rows: rows, Version: "test", Made: time.Unix(0, 0),
+		Plot: func(rel string) ([]byte, error) {
+			if p, ok := plots[rel]; ok {
+				return []byte(p), nil
+			}
+			return nil, errors.New("no such plot")
+		}})
+	require.NoError(t, err)
+	html := b.String()
+	assert.True(t, strings.HasSuffix(strings.TrimSpace(html), "</html>"))
+	assert.Contains(t, html, report.Safety[:40])
+	for _, id := range []string{"day1/a.csv", "day2/a.csv", "day3/broken.csv"} {
+		assert.Contains(t, html, `id="`+shot.Anchor(id, 0)+`"`)
+	}
+	// failing and unreadable shots first: the error, the slow front, then the good one
+	i3, i2, i1 := strings.Index(html, `id="`+shot.Anchor("day3/broken.csv", 0)), strings.Index(html, `id="`+shot.Anchor("day2/a.csv", 0)), strings.Index(html, `id="`+shot.Anchor("day1/a.csv", 0))
+	assert.True(t, i3 < i2 && i2 < i1, "order %d %d %d", i3, i2, i1)
+	// each section holds its own plot
+	sec := html[i2:i1]
+	assert.Contains(t, sec, "<svg")
+	assert.Contains(t, sec, "day2/a.csv")
+	assert.Contains(t, html[i3:i2], "could not be read")
+	assert.Contains(t, html, "front_time 1.9")
+}
+
+func TestTableAndSummary(t *testing.T) {
+	ss := shots(t)
+	series := shot.NewSeries("")
+	var rows []shot.Row
+	for _, s := range ss {
+		rows = append(rows, s.Rows...)
+		series.Add(s)
+	}
+	var b bytes.Buffer
+	report.Table(&b, rows)
+	report.Summary(&b, series.Summary())
+	out := b.String()
+	lines := strings.Split(out, "\n")
+	assert.Contains(t, lines[0], "Ut kV")
+	assert.Contains(t, lines[0], "T1 us")
+	assert.Contains(t, lines[1], "day1/a.csv")
+	assert.Contains(t, lines[1], "PASS")
+	assert.Contains(t, lines[2], "FAIL")
+	assert.Contains(t, out, "2 files, 2 channel rows: 1 pass, 1 fail, 0 error")
+	assert.Regexp(t, `front time T1\s+2\s+1\.5`, out)
+}
