@@ -92,17 +92,18 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
-	out, err := outputFolder(o.out, inputs, o.force || watch, o.force && !watch)
+	out, err := outputFolder(o.out, inputs, o.force || watch)
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
+	defer out.Close()
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM, syscall.SIGHUP)
 	defer stop()
 	w := &worker{cfg: cfg, read: rd, out: out, plots: plots}
 	if watch {
 		return watchDir(ctx, inputs[0], w, o, e)
 	}
-	files, skipped, err := collectFiles(inputs, out)
+	files, skipped, err := collectFiles(inputs, out.Path)
 	if err != nil {
 		return e.fail(name, err)
 	}
@@ -111,9 +112,6 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	}
 	if len(files) == 0 {
 		return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
-	}
-	if err := os.MkdirAll(out, 0o755); err != nil {
-		return e.fail(name, err)
 	}
 	series := shot.NewSeries(cfg.Series)
 	var rows []shot.Row
@@ -141,7 +139,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		return e.fail(name, fmt.Errorf("writing outputs: %w", err))
 	}
 	if !o.quiet {
-		fmt.Fprintf(e.stderr, "report: %s\n", filepath.Join(out, "report.html"))
+		fmt.Fprintf(e.stderr, "report: %s\n", filepath.Join(out.Path, "report.html"))
 	}
 	if interrupted {
 		return exitInterrupted

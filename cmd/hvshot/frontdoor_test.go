@@ -14,6 +14,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/report/folder"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -55,7 +56,7 @@ func TestOutIntoCapturesFolderRefused(t *testing.T) {
 	code, out, stderr := runCmd("analyze", "--quiet", "--out", dir, dir)
 	assert.Equal(t, exitUsage, code, out)
 	assert.Contains(t, stderr, "holds files hvshot did not write")
-	assert.Contains(t, stderr, "--out "+filepath.Join(dir, "hvshot-report"))
+	assert.Contains(t, stderr, "e.g. "+filepath.Join(dir, "hvshot-report"))
 	assert.Equal(t, before, hashDir(t, dir), "inputs untouched")
 	// --force does not change that
 	code, _, _ = runCmd("analyze", "--quiet", "--force", "--out", dir, dir)
@@ -113,7 +114,10 @@ func TestWatchWaitsForCompleteFiles(t *testing.T) {
 	full := filepath.Join(t.TempDir(), "full.csv")
 	writeShot(t, full, spec(1.2, 50, 300e3, 9), "text")
 	data := mustRead(t, full)
-	w := &worker{cfg: shot.NewConfig(), plots: report.NoPlot, out: out}
+	of, err := folder.Open(out, folder.Options{})
+	require.NoError(t, err)
+	defer of.Close()
+	w := &worker{cfg: shot.NewConfig(), plots: report.NoPlot, out: of}
 	ctx, cancel := context.WithCancel(context.Background())
 	done := make(chan int)
 	var stdout, stderr bytes.Buffer

@@ -20,6 +20,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/report/folder"
 	"github.com/hvshot/hvshot/waveform/shot"
 	"github.com/hvshot/hvshot/waveform/synth"
 )
@@ -258,7 +259,10 @@ func TestWatchPicksUpNewFile(t *testing.T) {
 	dir := t.TempDir()
 	out := filepath.Join(t.TempDir(), "out")
 	require.NoError(t, os.MkdirAll(out, 0o755))
-	w := &worker{cfg: shot.NewConfig(), plots: report.NoPlot, out: out}
+	of, err := folder.Open(out, folder.Options{})
+	require.NoError(t, err)
+	defer of.Close()
+	w := &worker{cfg: shot.NewConfig(), plots: report.NoPlot, out: of}
 	ctx, cancel := context.WithCancel(context.Background())
 	done := make(chan int)
 	var stdout, stderr bytes.Buffer

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"bufio"
 	"bytes"
 	"context"
 	"encoding/json"
@@ -9,13 +8,13 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
-	"os"
 	"path/filepath"
 	"strings"
 	"time"
 
 	"github.com/hvshot/hvshot/readers"
 	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/report/folder"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -31,7 +30,7 @@ func collectFiles(args []string, outDir string) (files []input, skipped []string
 			return d.Name() == shot.SetupFileName
 		}
 		ap, _ := filepath.Abs(p)
-		return ap == absOut || ownOutput(p)
+		return ap == absOut || folder.Owned(p)
 	})
 	ids := shot.Identities(paths)
 	for i, p := range paths {
@@ -40,70 +39,27 @@ func collectFiles(args []string, outDir string) (files []input, skipped []string
 	return files, skipped, err
 }
 
-// markerName marks a folder as hvshot's output, so a later scan leaves it out and a
-// later run may replace what is in it.
-const markerName = ".hvshot-output"
-
-func ownOutput(dir string) bool {
-	_, err := os.Stat(filepath.Join(dir, markerName))
-	return err == nil
-}
-
-// outputs are the files and folder a run writes into its output folder.
+// outputs are what a run writes into its output folder.
 var outputs = []string{"results.csv", "results.jsonl", "summary.json", "report.html", "plots"}
 
-// outputFolder picks the output folder and marks it as hvshot's. Asked for one, it
-// takes it when it is new, empty or marked as an earlier run's; it never takes a folder
-// with files hvshot did not write. An earlier run's report stays unless replace is
-// set, and clean then removes that run's outputs so that runs never mix. Not asked,
-// it makes a new folder next to the inputs, numbered until the name is free.
-func outputFolder(out string, inputs []string, replace, clean bool) (string, error) {
+// outputFolder takes the folder asked for (see folder.Open), or makes a new one next to
+// the inputs: beside a folder given, in the folder of a file given.
+func outputFolder(out string, inputs []string, replace bool) (*folder.Folder, error) {
 	if out == "" {
-		// beside a folder given, or in the folder of a file given
-		stem := filepath.Join(filepath.Dir(filepath.Clean(inputs[0])), "hvshot-report-"+time.Now().Format("20060102-150405"))
-		out = stem
-		for n := 2; ; n++ {
-			if err := os.Mkdir(out, 0o755); err == nil {
-				break
-			} else if !os.IsExist(err) {
-				return "", fmt.Errorf("output folder %s: %v", out, err)
-			}
-			out = fmt.Sprintf("%s-%d", stem, n)
-		}
-	} else if entries, err := os.ReadDir(out); err == nil {
-		switch {
-		case ownOutput(out):
-			if _, err := os.Stat(filepath.Join(out, "report.html")); err == nil && !replace {
-				return "", fmt.Errorf("%s already holds a report; use --force to replace it or choose another --out", out)
-			}
-			for _, name := range outputs {
-				if clean {
-					if err := os.RemoveAll(filepath.Join(out, name)); err != nil {
-						return "", err
-					}
-				}
-			}
-		case len(entries) > 0:
-			var names []string
-			for _, e := range entries[:min(3, len(entries))] {
-				names = append(names, e.Name())
-			}
-			return "", fmt.Errorf("--out %s holds files hvshot did not write (%s, ...); give a new or empty folder, e.g. --out %s", out, strings.Join(names, ", "), filepath.Join(out, "hvshot-report"))
-		}
-	} else if st, serr := os.Stat(out); serr == nil && !st.IsDir() {
-		return "", fmt.Errorf("--out %s exists and is not a folder", out)
+		return folder.New(filepath.Dir(filepath.Clean(inputs[0])), folder.Stem(time.Now()))
 	}
-	if err := os.MkdirAll(out, 0o755); err != nil {
-		return "", err
+	f, err := folder.Open(out, folder.Options{Report: "report.html", Replace: replace, Clean: outputs})
+	if err != nil {
+		return nil, fmt.Errorf("--out: %v", err)
 	}
-	return out, writeAtomic(filepath.Join(out, markerName), []byte("hvshot output folder: hvshot may replace what it wrote here\n"))
+	return f, nil
 }
 
 // worker reads, evaluates and plots one capture at a time.
 type worker struct {
 	cfg   *shot.Config
 	read  readers.Options
-	out   string
+	out   *folder.Folder // nil: no plots written
 	plots report.PlotFormat
 }
 
@@ -136,17 +92,14 @@ func (w *worker) do(in input) (shots []*shot.Shot) {
 func (w *worker) draw(s *shot.Shot) {
 	for k, c := range s.Curves {
 		r := &s.Rows[k]
-		if c == nil || w.plots == report.NoPlot || w.out == "" {
+		if c == nil || w.plots == report.NoPlot || w.out == nil {
 			continue
 		}
 		rel := shot.PlotPath(s.ID, k, r.Channel, string(w.plots))
 		var b bytes.Buffer
 		err := report.Plot(&b, c, s.ID+"  "+r.Channel, w.plots)
 		if err == nil {
-			p := filepath.Join(w.out, filepath.FromSlash(rel))
-			if err = os.MkdirAll(filepath.Dir(p), 0o755); err == nil {
-				err = writeAtomic(p, b.Bytes())
-			}
+			err = w.out.WriteBytes(rel, b.Bytes())
 		}
 		if err != nil {
 			r.Warnings = append(r.Warnings, shot.Warning{Code: "plot-failed", Text: err.Error()})
@@ -165,54 +118,18 @@ func runBatch(ctx context.Context, files []input, w *worker, jobs int, emit func
 
 // writeOutputs writes the tables, the summary and the report, each atomically.
 func writeOutputs(w *worker, rows []shot.Row, sum shot.Summary) error {
-	dir := w.out
-	err := writeAtomicWith(filepath.Join(dir, "results.csv"), func(f io.Writer) error { return shot.WriteCSV(f, rows) })
+	d := w.out
+	err := d.Write("results.csv", func(f io.Writer) error { return shot.WriteCSV(f, rows) })
 	if err == nil {
-		err = writeAtomicWith(filepath.Join(dir, "results.jsonl"), func(f io.Writer) error { return shot.WriteJSONL(f, rows) })
+		err = d.Write("results.jsonl", func(f io.Writer) error { return shot.WriteJSONL(f, rows) })
 	}
 	if err == nil {
 		sj, _ := json.MarshalIndent(sum, "", " ")
-		err = writeAtomic(filepath.Join(dir, "summary.json"), append(sj, '\n'))
+		err = d.WriteBytes("summary.json", append(sj, '\n'))
 	}
 	if err == nil {
-		page := report.Page{Summary: sum, Rows: rows, Config: w.cfg, Version: Version, Made: time.Now(),
-			Plot: func(rel string) ([]byte, error) { return os.ReadFile(filepath.Join(dir, filepath.FromSlash(rel))) }}
-		err = writeAtomicWith(filepath.Join(dir, "report.html"), func(f io.Writer) error { return report.HTML(f, page) })
-	}
-	return err
-}
-
-func writeAtomic(path string, data []byte) error {
-	return writeAtomicWith(path, func(w io.Writer) error { _, err := w.Write(data); return err })
-}
-
-// writeAtomicWith writes a file through a temporary file beside it, renamed into place
-// once whole, so that a reader or a run killed mid-way never sees half a file.
-func writeAtomicWith(path string, write func(io.Writer) error) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp-*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	bw := bufio.NewWriterSize(f, 1<<16)
-	err = write(bw)
-	if err == nil {
-		err = bw.Flush()
-	}
-	if err == nil {
-		err = f.Chmod(0o644) // CreateTemp makes it private; results are for the lab to read
-	}
-	if err == nil {
-		err = f.Sync()
-	}
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err == nil {
-		err = os.Rename(tmp, path)
-	}
-	if err != nil {
-		os.Remove(tmp)
+		page := report.Page{Summary: sum, Rows: rows, Config: w.cfg, Version: Version, Made: time.Now(), Plot: d.Read}
+		err = d.Write("report.html", func(f io.Writer) error { return report.HTML(f, page) })
 	}
 	return err
 }

@@ -15,6 +15,7 @@ import (
 	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/report"
+	"github.com/hvshot/hvshot/waveform/report/folder"
 	"github.com/hvshot/hvshot/waveform/synth"
 )
 
@@ -164,10 +165,10 @@ func writeCapture(path, format string, rec *waveform.Record) error {
 	if err == nil && spec != nil {
 		readers.WriteSidecar(&side, *spec)
 		side.WriteString("# synthetic capture made by hvshot synth\n")
-		err = writeAtomic(path+readers.SidecarSuffix, side.Bytes())
+		err = folder.WriteFile(path+readers.SidecarSuffix, side.Bytes())
 	}
 	if err == nil {
-		err = writeAtomic(path, b.Bytes())
+		err = folder.WriteFile(path, b.Bytes())
 	}
 	return err
 }
@@ -210,7 +211,7 @@ func writeDemo(dir string) error {
 	}
 	for _, f := range files {
 		if err == nil {
-			err = writeAtomic(filepath.Join(dir, f.Name), f.Data)
+			err = folder.WriteFile(filepath.Join(dir, f.Name), f.Data)
 		}
 	}
 	return err

@@ -36,12 +36,12 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 		csvOut.Write(shot.CSVHeader())
 	}
 	if !o.quiet {
-		fmt.Fprintf(e.stderr, "watching %s (Ctrl-C to stop); outputs in %s\n", dir, w.out)
+		fmt.Fprintf(e.stderr, "watching %s (Ctrl-C to stop); outputs in %s\n", dir, w.out.Path)
 	}
 	tick := time.NewTicker(o.poll)
 	defer tick.Stop()
 	for {
-		list, _, _ := collectFiles([]string{dir}, w.out)
+		list, _, _ := collectFiles([]string{dir}, w.out.Path)
 		var ready []input
 		now := time.Now()
 		for _, in := range list {
@@ -96,7 +96,7 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 		select {
 		case <-ctx.Done():
 			if !o.quiet {
-				fmt.Fprintf(e.stderr, "stopped; %d files evaluated, report: %s\n", len(order), filepath.Join(w.out, "report.html"))
+				fmt.Fprintf(e.stderr, "stopped; %d files evaluated, report: %s\n", len(order), filepath.Join(w.out.Path, "report.html"))
 			}
 			return exitInterrupted
 		case <-tick.C:
