@@ -521,7 +521,7 @@ func blockWave(s *preScanner, w preWave, k int, size int64, rec *waveform.Record
 		}
 	}
 	rec.Notes = append(rec.Notes,
-		fmt.Sprintf("%s: value = (code - %s %g) x %s %g + %s %g, unit %q from %s", ch.Name, field(pkYOff), yoff, field(pkYMult), ymult, field(pkYZero), yzero, w.val[pkYUnit], field(pkYUnit)))
+		fmt.Sprintf("%s: %s %s codes; value = (code - %s %g) x %s %g + %s %g, unit %q from %s", ch.Name, order, st.name, field(pkYOff), yoff, field(pkYMult), ymult, field(pkYZero), yzero, w.val[pkYUnit], field(pkYUnit)))
 	if w.val[pkWaveID] != "" {
 		rec.Notes = append(rec.Notes, fmt.Sprintf("%s: name from the waveform id %q", ch.Name, w.val[pkWaveID]))
 		rec.Meta[fmt.Sprintf("waveform id %d", k+1)] = w.val[pkWaveID]

@@ -259,6 +259,33 @@ func TestReadBlockTwoWaveforms(t *testing.T) {
 	requireParseError(t, err, "pair.cap", ErrUnsupported, "waveform 2", "time base")
 }
 
+// A code at the limit of its type is at the end of the range the file can express: the
+// channel's range ends there, so the analysis can see the sample as clipped.
+func TestReadBlockCodeLimitIsRangeEnd(t *testing.T) {
+	for _, c := range []struct {
+		bytes  int
+		format string
+		limit  int64
+	}{{1, "RI", 127}, {2, "RI", 32767}, {2, "RP", 65535}} {
+		codes := inventedCodes(200, float64(c.limit)/2)
+		if c.format == "RP" {
+			for i := range codes {
+				codes[i] += 1000
+			}
+		}
+		codes[60], codes[61] = c.limit, c.limit
+		s := blockSpec{bytes: c.bytes, format: c.format, order: "LSB", ymult: 0.01, yoff: 3, yzero: 1, codes: codes}
+		rec, err := ReadBlock(bytes.NewReader(buildBlock(s)), "clip.cap")
+		require.NoError(t, err)
+		ch := rec.Channels[0]
+		require.True(t, ch.HasRange)
+		want := (float64(c.limit)-3)*0.01 + 1
+		assert.InDelta(t, want, ch.RangeMax, 1e-12, "%d-byte %s", c.bytes, c.format)
+		assert.InDelta(t, ch.RangeMax, ch.Samples[60], 1e-12)
+		assert.Less(t, ch.Samples[59], ch.RangeMax)
+	}
+}
+
 func TestReadBlockBad(t *testing.T) {
 	ok := blockSpec{bytes: 2, format: "RI", order: "MSB", codes: inventedCodes(100, 1000)}
 	with := func(f func(*blockSpec)) []byte {

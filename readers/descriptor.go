@@ -356,7 +356,7 @@ func readDescriptor(r io.Reader, file string, size int64) ([]*waveform.Record, e
 	note("data start at byte %d: block at %d + descriptor %d + user text %d + second descriptor %d + trigger-time array %d + interleave-time array %d + reserved array %d",
 		dataStart, base, descLen, userLen, arrays[2].n, trigLen, risLen, arrays[5].n)
 	note("%s", iNote)
-	note("value = %s x code - %s; %s; %s", strconv.FormatFloat(gain, 'g', -1, 64), strconv.FormatFloat(voff, 'g', -1, 64), gNote, oNote)
+	note("value = vertical gain x code - vertical offset; %s; %s", gNote, oNote)
 	note("vertical range: codes %g to %g from the descriptor; codes beyond are over-range", minCode, maxCode)
 	if tNote != "" {
 		note("%s", tNote)

@@ -80,7 +80,7 @@ func Read(r io.Reader, name string, opt Options) (*waveform.Record, error) {
 		return nil, err
 	}
 	if len(recs) > 1 {
-		return nil, fileErr(name, ErrSegmented, fmt.Sprintf("it holds %d segments, each a shot of its own; ReadAll reads them (as %s#1 to %s#%d)", len(recs), name, name, len(recs)))
+		return nil, fileErr(name, ErrSegmented, fmt.Sprintf("%d segments, each a shot of its own; ReadAll reads them (as %s#1 to %s#%d)", len(recs), name, name, len(recs)))
 	}
 	return recs[0], nil
 }

@@ -195,10 +195,11 @@ func TestReadSelfDescribingPythonFixtures(t *testing.T) {
 		names    []string
 		units    []string
 		interval float64
+		over     []int // per record, the first channel's over-range count
 	}{
-		{"py_preamble_block.cap", 0, []string{"CH1", "CH2"}, []string{"V", "A"}, 4e-9},
-		{"py_descriptor_sequence.cap", 4, []string{"CH2"}, []string{"V"}, 2e-9},
-		{"py_fixed_header.cap", 0, []string{"CH1", "CH3"}, []string{"V", "A"}, 5e-9},
+		{"py_preamble_block.cap", 0, []string{"CH1", "CH2"}, []string{"V", "A"}, 4e-9, []int{0}},
+		{"py_descriptor_sequence.cap", 4, []string{"CH2"}, []string{"V"}, 2e-9, []int{0, 0, 1, 0}},
+		{"py_fixed_header.cap", 0, []string{"CH1", "CH3"}, []string{"V", "A"}, 5e-9, []int{0}},
 	}
 	for _, c := range cases {
 		t.Run(c.file, func(t *testing.T) {
@@ -221,6 +222,7 @@ func TestReadSelfDescribingPythonFixtures(t *testing.T) {
 				assert.Equal(t, path, rec.Source)
 				assert.Equal(t, math.Float64bits(c.interval), math.Float64bits(rec.Interval_s), "%.17g", rec.Interval_s)
 				require.Len(t, rec.Channels, len(c.names))
+				assert.Equal(t, c.over[k], rec.Channels[0].OverRange, "record %d", k+1)
 				rows := want[k]
 				require.Len(t, rows, rec.Len())
 				assert.InDelta(t, rows[0][0], rec.Start_s, 1e-15)
