@@ -14,10 +14,12 @@ package readers
 
 import (
 	"bufio"
+	"bytes"
 	"encoding/binary"
 	"fmt"
 	"io"
 	"math"
+	"regexp"
 	"strconv"
 	"strings"
 
@@ -104,20 +106,15 @@ func sniffPreamble(head []byte) bool {
 		return false
 	}
 	rest := head[j:]
-	if len(rest) > 4096 {
-		rest = rest[:4096]
+	if k := bytes.IndexAny(rest, ";\n"); k >= 0 && rest[k] == ';' {
+		return true
 	}
-	for _, c := range rest {
-		switch {
-		case c == ';' || c == '#':
-			return true
-		case c == '\n':
-			// one unit per line is allowed, but then the next must also be a key
-			return true
-		}
-	}
-	return false
+	// One unit per line: text exports have lines like that too, so the curve's block
+	// header must be in sight as well.
+	return reCurveBlock.Match(head)
 }
+
+var reCurveBlock = regexp.MustCompile(`(?i)[:;\n]CURVE?[ \t]+#[0-9]`)
 
 func isMnemonicByte(c byte) bool {
 	return c == '_' || c == ':' || (c >= 'A' && c <= 'Z') || (c >= 'a' && c <= 'z') || (c >= '0' && c <= '9')

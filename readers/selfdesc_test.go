@@ -120,6 +120,8 @@ func TestSniffSelfDescribing(t *testing.T) {
 		{[]byte{1, 2, 0, 4, 5, 6, 7, 8}, FormatRaw},
 		{[]byte("AB10\x00\x00\x00\x00\xff\xff\xff\xff\x00\x00\x00\x00\x00\x00\x00\x00"), FormatRaw}, // a cookie, then nonsense
 		{[]byte("XINCR,2e-9\n1\n2\n"), FormatText},
+		{[]byte("XINCR 2e-9\n1\n2\n"), FormatText}, // a key, but no unit separator and no block
+		{[]byte(":PRE:XINCR 2e-9\nYMULT 1\n:CURV #18\x00\x01\x02\x03\x04\x05\x06\x07"), FormatPreambleBlock},
 	}
 	for i, c := range cases {
 		head := c.head
