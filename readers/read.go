@@ -3,6 +3,7 @@ package readers
 import (
 	"bufio"
 	"errors"
+	"fmt"
 	"io"
 	"os"
 	"path/filepath"
@@ -28,13 +29,29 @@ const (
 	FormatText Format = "text"
 	FormatNPY  Format = "npy"
 	FormatRaw  Format = "raw"
+	// Self-describing binary captures, each named for its layout.
+	FormatPreambleBlock Format = "preamble-block" // text preamble, then a definite-length block
+	FormatDescriptor    Format = "descriptor"     // a block holding a binary descriptor and arrays
+	FormatFixedHeader   Format = "fixed-header"   // fixed binary file and waveform headers
 )
 
-// SniffFormat decides the format from the first bytes: the .npy magic, binary bytes
-// (raw, which needs a description), or text. The extension is only a hint for raw.
+// ErrSegmented is Read's refusal of a capture that holds several records.
+var ErrSegmented = errors.New("the capture holds several segments")
+
+// SniffFormat decides the format from the first bytes: the .npy magic, one of the
+// self-describing binary layouts (from their structure), other binary bytes (raw,
+// which needs a description), or text. The extension is only a hint for raw.
 func SniffFormat(head []byte, name string) Format {
 	if len(head) >= 6 && string(head[:6]) == string(npyMagic) {
 		return FormatNPY
+	}
+	switch {
+	case sniffDescriptor(head):
+		return FormatDescriptor
+	case sniffFixed(head):
+		return FormatFixedHeader
+	case sniffPreamble(head):
+		return FormatPreambleBlock
 	}
 	b := head
 	if len(b) > 3 && b[0] == 0xEF && b[1] == 0xBB && b[2] == 0xBF {
@@ -55,10 +72,59 @@ func SniffFormat(head []byte, name string) Format {
 	return FormatText
 }
 
-// Read reads one capture from r; name is used in messages and as a format hint.
+// Read reads one capture from r; name is used in messages and as a format hint. A
+// segmented capture is refused with ErrSegmented: ReadAll reads its segments.
 func Read(r io.Reader, name string, opt Options) (*waveform.Record, error) {
+	recs, err := readAll(r, name, opt)
+	if err != nil {
+		return nil, err
+	}
+	if len(recs) > 1 {
+		return nil, fileErr(name, ErrSegmented, fmt.Sprintf("%d segments, each a shot of its own; ReadAll reads them (as %s#1 to %s#%d)", len(recs), name, name, len(recs)))
+	}
+	return recs[0], nil
+}
+
+func readAll(r io.Reader, name string, opt Options) ([]*waveform.Record, error) {
+	one := func(rec *waveform.Record, err error) ([]*waveform.Record, error) {
+		if err != nil {
+			return nil, err
+		}
+		return []*waveform.Record{rec}, nil
+	}
+	if opt.SizeHint <= 0 {
+		// Before the peek below, which would leave an in-memory reader's Len short.
+		opt.SizeHint = sizeHint(r, opt)
+	}
 	br := bufio.NewReaderSize(r, 1<<16)
 	head, _ := br.Peek(4096)
+	f := SniffFormat(head, name)
+	// These files describe themselves: a raw description (a sidecar found beside the
+	// file, or flags) has nothing to add, and is set aside with a note.
+	var recs []*waveform.Record
+	var err error
+	switch f {
+	case FormatDescriptor:
+		recs, err = readDescriptor(br, name, sizeHint(r, opt))
+	case FormatFixedHeader:
+		recs, err = readFixed(br, name, sizeHint(r, opt))
+	case FormatPreambleBlock:
+		recs, err = one(readBlock(br, name, sizeHint(r, opt)))
+	}
+	switch f {
+	case FormatDescriptor, FormatFixedHeader, FormatPreambleBlock:
+		if err == nil && opt.Raw != nil {
+			for _, rec := range recs {
+				rec.Notes = append(rec.Notes, "the raw description given was not used: the file describes itself")
+			}
+		}
+		return recs, err
+	}
+	return one(readOne(br, head, name, opt, r))
+}
+
+// readOne reads the formats that hold one record.
+func readOne(br *bufio.Reader, head []byte, name string, opt Options, r io.Reader) (*waveform.Record, error) {
 	switch SniffFormat(head, name) {
 	case FormatNPY:
 		return ReadNPY(br, name, NPYOptions{Interval_s: opt.Interval_s, TimeColumn: opt.TimeColumn, Names: opt.Names})
@@ -91,20 +157,12 @@ func sizeHint(r io.Reader, opt Options) int64 {
 // ReadAll reads every record a capture holds: one for most files, one per segment for
 // a segmented (sequence) capture, each with its Segment set.
 func ReadAll(r io.Reader, name string, opt Options) ([]*waveform.Record, error) {
-	rec, err := Read(r, name, opt)
-	if err != nil {
-		return nil, err
-	}
-	return []*waveform.Record{rec}, nil
+	return readAll(r, name, opt)
 }
 
 // ReadFileAll is ReadAll on a file, with ReadFile's sidecar lookup.
 func ReadFileAll(path string, opt Options) ([]*waveform.Record, error) {
-	rec, err := ReadFile(path, opt)
-	if err != nil {
-		return nil, err
-	}
-	return []*waveform.Record{rec}, nil
+	return readFile(path, opt, readAll)
 }
 
 // SidecarFor returns the raw description path for a capture, if one exists.
@@ -120,6 +178,20 @@ func SidecarFor(path string) (string, bool) {
 // ReadFile opens and reads one capture, using a sidecar raw description when there is
 // one and opt has none.
 func ReadFile(path string, opt Options) (*waveform.Record, error) {
+	recs, err := readFile(path, opt, func(r io.Reader, name string, opt Options) ([]*waveform.Record, error) {
+		rec, err := Read(r, name, opt)
+		if err != nil {
+			return nil, err
+		}
+		return []*waveform.Record{rec}, nil
+	})
+	if err != nil {
+		return nil, err
+	}
+	return recs[0], nil
+}
+
+func readFile(path string, opt Options, read func(io.Reader, string, Options) ([]*waveform.Record, error)) ([]*waveform.Record, error) {
 	if opt.Raw == nil {
 		if sc, ok := SidecarFor(path); ok {
 			f, err := os.Open(sc)
@@ -146,9 +218,9 @@ func ReadFile(path string, opt Options) (*waveform.Record, error) {
 	if st, err := f.Stat(); err == nil && opt.SizeHint == 0 {
 		opt.SizeHint = st.Size()
 	}
-	rec, err := Read(f, path, opt)
-	if rec != nil {
+	recs, err := read(f, path, opt)
+	for _, rec := range recs {
 		rec.Source = path
 	}
-	return rec, err
+	return recs, err
 }
