@@ -259,7 +259,8 @@ type Clip struct {
 	Level         float64
 }
 
-// DetectClipping reports runs of samples stuck at the channel's limit. With a stated
+// DetectClipping reports runs of samples stuck at the channel's limit, or the samples
+// the instrument itself marked as over range (Channel.OverRange). With a stated
 // vertical range, any sample within half a code of either edge counts. Without one, a
 // run of equal samples at the record's maximum or minimum counts only when the signal
 // ran into it faster than a rounded, quantised peak would: a smooth peak spends about
@@ -268,6 +269,17 @@ func DetectClipping(c *Channel) (Clip, bool) {
 	x := c.Samples
 	if len(x) < 3 {
 		return Clip{}, false
+	}
+	if c.OverRange > 0 {
+		// The instrument coded samples as beyond its range: clipped, whatever the values.
+		i := 0
+		for k, v := range x {
+			if c.HasRange && (v > c.RangeMax || v < c.RangeMin) {
+				i = k
+				break
+			}
+		}
+		return Clip{Index: i, Length: c.OverRange, Level: x[i]}, true
 	}
 	if c.HasRange && c.RangeMax > c.RangeMin {
 		tol := (c.RangeMax - c.RangeMin) * 1e-9

@@ -116,3 +116,19 @@ func ExampleTestVoltageGain() {
 	fmt.Printf("%.4f %.3f\n", TestVoltageGain(1e6), TestVoltageGain(0.5e6))
 	// Output: 0.3125 0.645
 }
+
+// Samples the instrument marked as over range are clipping, even where their values
+// sit inside the stated range (a range the reader could only estimate).
+func TestDetectClippingOverRange(t *testing.T) {
+	x := make([]float64, 100)
+	for i := range x {
+		x[i] = math.Sin(float64(i) / 10)
+	}
+	c := Channel{Samples: x, HasRange: true, RangeMin: -2, RangeMax: 2}
+	_, ok := DetectClipping(&c)
+	require.False(t, ok)
+	c.OverRange = 3
+	cl, ok := DetectClipping(&c)
+	require.True(t, ok)
+	assert.Equal(t, 3, cl.Length)
+}

@@ -121,8 +121,8 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		csvOut.Write(shot.CSVHeader())
 	}
 	interrupted := runBatch(ctx, files, w, o.jobs, func(i int, shots []*shot.Shot) {
+		series.Add(shots...)
 		for _, s := range shots {
-			series.Add(s)
 			rows = append(rows, s.Rows...)
 			printRows(e, o.format, csvOut, s.Rows)
 		}

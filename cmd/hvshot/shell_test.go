@@ -156,3 +156,30 @@ func indexOf(s []string, x string) int {
 	}
 	return -1
 }
+
+// A segmented capture is one shot a segment, each with its own identity and plot; the
+// self-describing binaries need no description beside them.
+func TestSegmentedAndSelfDescribingCaptures(t *testing.T) {
+	dir := t.TempDir()
+	for _, name := range []string{"py_descriptor_sequence.cap", "py_fixed_header.cap", "py_preamble_block.cap"} {
+		require.NoError(t, os.WriteFile(filepath.Join(dir, name), mustRead(t, filepath.Join("../../testdata/readers", name)), 0o644))
+	}
+	out := filepath.Join(t.TempDir(), "out")
+	code, stdout, stderr := runCmd("analyze", "--quiet", "--format", "jsonl", "--out", out, dir)
+	require.NotEqual(t, exitUsage, code, stderr)
+	ids := map[string]bool{}
+	for _, l := range strings.Split(strings.TrimSpace(stdout), "\n") {
+		var m map[string]any
+		require.NoError(t, json.Unmarshal([]byte(l), &m))
+		assert.NotEqual(t, "error", m["verdict"], m["error"])
+		ids[m["file"].(string)] = true
+	}
+	for _, id := range []string{"py_descriptor_sequence.cap#1", "py_descriptor_sequence.cap#4", "py_fixed_header.cap", "py_preamble_block.cap"} {
+		assert.True(t, ids[id], id)
+	}
+	assert.FileExists(t, filepath.Join(out, "plots", "py_descriptor_sequence.cap#4.1-CH2.svg"))
+	var sum shot.Summary
+	require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
+	assert.Equal(t, 3, sum.Files)
+	assert.Equal(t, 6, sum.Shots)
+}

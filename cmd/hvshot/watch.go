@@ -84,8 +84,8 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 			series := shot.NewSeries(w.cfg.Series)
 			var rows []shot.Row
 			for _, p := range order {
+				series.Add(shots[p]...)
 				for _, sh := range shots[p] {
-					series.Add(sh)
 					rows = append(rows, sh.Rows...)
 				}
 			}

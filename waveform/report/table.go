@@ -113,7 +113,11 @@ func Summary(w io.Writer, s shot.Summary) {
 		title += ": " + s.Series
 	}
 	fmt.Fprintln(w, title)
-	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error\n", plural(s.Files, "file"), plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors)
+	files := plural(s.Files, "file")
+	if s.Shots != s.Files {
+		files += " (" + plural(s.Shots, "shot") + ")"
+	}
+	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error\n", files, plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors)
 	if s.Interrupted {
 		fmt.Fprintln(w, "  interrupted: the rows above are the files finished before the stop")
 	}

@@ -25,6 +25,7 @@ func (s Stat) Column() *Column { return s.col }
 type Summary struct {
 	Series      string `json:"series,omitempty"`
 	Files       int    `json:"files"`
+	Shots       int    `json:"shots"` // more than files when a file holds several segments
 	Rows        int    `json:"rows"`
 	Pass        int    `json:"pass"`
 	Fail        int    `json:"fail"`
@@ -37,7 +38,7 @@ type Summary struct {
 // grow with the number of shots.
 type Series struct {
 	name               string
-	files, rows        int
+	files, shots, rows int
 	pass, fail, errors int
 	acc                []welford // by column index
 }
@@ -67,9 +68,17 @@ func NewSeries(name string) *Series {
 	return &Series{name: name, acc: make([]welford, len(Columns))}
 }
 
-// Add counts a shot: one file, its rows by verdict, and its values.
-func (s *Series) Add(sh *Shot) {
+// Add counts one file's shots (one, or one a segment): their rows by verdict and their
+// values.
+func (s *Series) Add(shots ...*Shot) {
 	s.files++
+	for _, sh := range shots {
+		s.add(sh)
+	}
+}
+
+func (s *Series) add(sh *Shot) {
+	s.shots++
 	for i := range sh.Rows {
 		r := &sh.Rows[i]
 		s.rows++
@@ -91,7 +100,7 @@ func (s *Series) Add(sh *Shot) {
 
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
-	out := Summary{Series: s.name, Files: s.files, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Stats: []Stat{}}
+	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Stats: []Stat{}}
 	// in the per-shot tables' order, then the rest in the column table's
 	cols := slices.Clone(Columns)
 	rank := func(c *Column) int {
