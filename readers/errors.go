@@ -22,6 +22,7 @@ var (
 	ErrUnsupported  = errors.New("unsupported")
 	ErrHeader       = errors.New("bad header")
 	ErrSidecar      = errors.New("bad raw description")
+	ErrNotAFile     = errors.New("not a regular file")
 )
 
 // ParseError is a read failure with its place in the file. Line and Column are 1-based

@@ -9,51 +9,81 @@ import (
 )
 
 // Find expands files and folders into the captures to read, in a stable order: each
-// folder's files sorted, each path once. In folders it leaves out hidden entries, raw
-// descriptions, entries for which leave returns true (a caller's own files and
-// folders), and files whose content says they are not captures; those it names in
-// skipped, with what they are. A path given that is not a folder is always kept, so
-// that a mistake in it gets a message when it is read.
+// folder's files sorted, each file once. Symbolic links are followed, to files and to
+// folders, and a link back into a folder already being walked is not walked again. In
+// folders it leaves out hidden entries, raw descriptions and entries for which leave
+// returns true (a caller's own files and folders); it names in skipped, with what they
+// are, the files whose content says they are not captures and the special files (named
+// pipes, devices, sockets). A path given that is not a folder is always kept, so that a
+// mistake in it gets a message when it is read.
 func Find(paths []string, leave func(path string, d fs.DirEntry) bool) (found, skipped []string, err error) {
 	seen := map[string]bool{}
 	add := func(p string) {
-		if a, _ := filepath.Abs(p); !seen[a] {
+		a, _ := filepath.Abs(p)
+		if r, err := filepath.EvalSymlinks(a); err == nil {
+			a = r
+		}
+		if !seen[a] {
 			seen[a] = true
 			found = append(found, p)
 		}
+	}
+	var walk func(dir string, inside map[string]bool) error
+	walk = func(dir string, inside map[string]bool) error {
+		real, err := filepath.EvalSymlinks(dir)
+		if err != nil {
+			return err
+		}
+		if inside[real] {
+			skipped = append(skipped, dir+" (a link back into a folder being read)")
+			return nil
+		}
+		inside[real] = true
+		defer delete(inside, real)
+		entries, err := os.ReadDir(dir)
+		if err != nil {
+			return err
+		}
+		var files, dirs []string
+		for _, d := range entries {
+			p := filepath.Join(dir, d.Name())
+			if strings.HasPrefix(d.Name(), ".") || strings.HasSuffix(d.Name(), SidecarSuffix) || (leave != nil && leave(p, d)) {
+				continue
+			}
+			st, err := os.Stat(p) // through a link, to what it points at
+			switch {
+			case err != nil:
+				skipped = append(skipped, p+" (a broken link)")
+			case st.IsDir():
+				dirs = append(dirs, p)
+			case !st.Mode().IsRegular():
+				skipped = append(skipped, p+" ("+specialKind(st.Mode())+")")
+			default:
+				if ok, what := IsCaptureFile(p); !ok {
+					skipped = append(skipped, p+" ("+what+")")
+					continue
+				}
+				files = append(files, p)
+			}
+		}
+		sort.Strings(files)
+		for _, p := range files {
+			add(p)
+		}
+		for _, d := range dirs {
+			if err := walk(d, inside); err != nil {
+				return err
+			}
+		}
+		return nil
 	}
 	for _, root := range paths {
 		if st, err := os.Stat(root); err != nil || !st.IsDir() {
 			add(root)
 			continue
 		}
-		var here []string
-		err := filepath.WalkDir(root, func(p string, d fs.DirEntry, err error) error {
-			if err != nil || p == root {
-				return nil
-			}
-			if b := d.Name(); strings.HasPrefix(b, ".") || strings.HasSuffix(b, SidecarSuffix) || (leave != nil && leave(p, d)) {
-				if d.IsDir() {
-					return filepath.SkipDir
-				}
-				return nil
-			}
-			if d.IsDir() || !d.Type().IsRegular() {
-				return nil
-			}
-			if ok, what := IsCaptureFile(p); !ok {
-				skipped = append(skipped, p+" ("+what+")")
-				return nil
-			}
-			here = append(here, p)
-			return nil
-		})
-		if err != nil {
+		if err := walk(root, map[string]bool{}); err != nil {
 			return nil, nil, err
-		}
-		sort.Strings(here)
-		for _, p := range here {
-			add(p)
 		}
 	}
 	return found, skipped, nil

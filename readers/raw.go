@@ -110,6 +110,12 @@ func ParseSidecar(r io.Reader, file string) (RawSpec, error) {
 			if err != nil {
 				return spec, bad("%v", err)
 			}
+			for _, x := range v {
+				// a volt per code to a gigavolt per code spans every scope and divider
+				if !(math.Abs(x) <= maxGain) || (key == "gain" && x == 0) {
+					return spec, bad("%g is not a plausible %s (|%s| up to %g, gain not 0)", x, key, key, maxGain)
+				}
+			}
 			if key == "gain" {
 				spec.Gain = v
 			} else {
@@ -122,11 +128,14 @@ func ParseSidecar(r io.Reader, file string) (RawSpec, error) {
 			}
 			switch key {
 			case "interval":
-				if !(v > 0) {
-					return spec, bad("must be positive")
+				if !(v >= waveform.MinInterval_s && v <= waveform.MaxInterval_s) {
+					return spec, bad("%g s is outside %g to %g s", v, waveform.MinInterval_s, waveform.MaxInterval_s)
 				}
 				spec.Interval_s = v
 			case "start":
+				if !(math.Abs(v) <= waveform.MaxSpan_s) {
+					return spec, bad("%g s is more than an hour from the trigger", v)
+				}
 				spec.Start_s = v
 			case "range":
 				spec.RangeV = v
@@ -276,8 +285,9 @@ func readRaw(r io.Reader, file string, spec RawSpec, sizeHint int64) (*waveform.
 		if spec.RangeV > 0 {
 			ch.HasRange, ch.RangeMin, ch.RangeMax = true, -spec.RangeV, spec.RangeV
 		}
-		// Integer codes times a finite gain are always finite; only floats need a look.
-		if isFloat || math.IsInf(gains[c], 0) || math.IsNaN(gains[c]+offs[c]) {
+		// Integer codes times a gain stay finite unless the largest code overflows; only
+		// floats and such gains need a look.
+		if isFloat || math.IsInf(math.Exp2(float64(8*st.size))*math.Abs(gains[c])+math.Abs(offs[c]), 0) {
 			for i, v := range s {
 				if math.IsNaN(v) || math.IsInf(v, 0) {
 					return nil, byteErr(file, spec.HeaderBytes+int64((i*nc+c)*st.size), ErrNotFinite, "")
@@ -289,5 +299,11 @@ func readRaw(r io.Reader, file string, spec RawSpec, sizeHint int64) (*waveform.
 	if rec.Len() < waveform.MinSamples {
 		return nil, fileErr(file, ErrNoData, fmt.Sprintf("%d samples, need at least %d", rec.Len(), waveform.MinSamples))
 	}
+	if err := rec.ValidateTime(); err != nil {
+		return nil, fileErr(file, ErrSidecar, err.Error())
+	}
 	return rec, nil
 }
+
+// maxGain bounds a raw description's gain and offset (ours).
+const maxGain = 1e9

@@ -192,6 +192,11 @@ func ReadFile(path string, opt Options) (*waveform.Record, error) {
 }
 
 func readFile(path string, opt Options, read func(io.Reader, string, Options) ([]*waveform.Record, error)) ([]*waveform.Record, error) {
+	// A named pipe would block the open until a writer comes, and a device never ends:
+	// refuse both by their type before opening.
+	if st, err := os.Stat(path); err == nil && !st.Mode().IsRegular() {
+		return nil, fileErr(path, ErrNotAFile, specialKind(st.Mode()))
+	}
 	if opt.Raw == nil {
 		if sc, ok := SidecarFor(path); ok {
 			f, err := os.Open(sc)
@@ -223,4 +228,19 @@ func readFile(path string, opt Options, read func(io.Reader, string, Options) ([
 		rec.Source = path
 	}
 	return recs, err
+}
+
+// specialKind names what a path that is not a regular file is.
+func specialKind(m os.FileMode) string {
+	switch {
+	case m.IsDir():
+		return "a folder"
+	case m&os.ModeNamedPipe != 0:
+		return "a named pipe (FIFO)"
+	case m&os.ModeSocket != 0:
+		return "a socket"
+	case m&os.ModeDevice != 0:
+		return "a device"
+	}
+	return "a special file"
 }

@@ -45,6 +45,15 @@ type Record struct {
 	Warnings []string
 }
 
+// The bounds of a plausible time base (ours): a sample interval from 1 ps (faster than
+// any digitiser) to 1 s (slower than any impulse record), and a start and a span within
+// an hour. A value outside them is a damaged header or a misread unit, never a record.
+const (
+	MinInterval_s = 1e-12
+	MaxInterval_s = 1.0
+	MaxSpan_s     = 3600.0
+)
+
 // ErrInvalid is wrapped by every validation failure of NewRecord.
 var ErrInvalid = errors.New("invalid record")
 
@@ -58,13 +67,24 @@ func NewRecord(source string, interval_s, start_s float64, channels []Channel) (
 	return r, nil
 }
 
+// ValidateTime checks the time base against the bounds above.
+func (r *Record) ValidateTime() error {
+	if !(r.Interval_s >= MinInterval_s && r.Interval_s <= MaxInterval_s) {
+		return fmt.Errorf("%w: sample interval %g s is outside %g to %g s", ErrInvalid, r.Interval_s, MinInterval_s, MaxInterval_s)
+	}
+	if !(math.Abs(r.Start_s) <= MaxSpan_s) {
+		return fmt.Errorf("%w: start time %g s is more than an hour from the trigger", ErrInvalid, r.Start_s)
+	}
+	if d := r.Duration_s(); d > MaxSpan_s {
+		return fmt.Errorf("%w: the record spans %g s, more than an hour", ErrInvalid, d)
+	}
+	return nil
+}
+
 // Validate checks the invariants NewRecord promises.
 func (r *Record) Validate() error {
-	if !(r.Interval_s > 0) || math.IsInf(r.Interval_s, 0) {
-		return fmt.Errorf("%w: sample interval %g s is not a positive finite number", ErrInvalid, r.Interval_s)
-	}
-	if math.IsNaN(r.Start_s) || math.IsInf(r.Start_s, 0) {
-		return fmt.Errorf("%w: start time %g s is not finite", ErrInvalid, r.Start_s)
+	if err := r.ValidateTime(); err != nil {
+		return err
 	}
 	if len(r.Channels) == 0 {
 		return fmt.Errorf("%w: no channels", ErrInvalid)

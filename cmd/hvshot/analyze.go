@@ -115,6 +115,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	}
 	series := shot.NewSeries(cfg.Series)
 	var rows []shot.Row
+	lost := false // a plot that could not be written: a warning on its row, and exit 2
 	prog := report.NewProgress(e.stderr, len(files), o.quiet)
 	csvOut := csv.NewWriter(e.stdout)
 	if o.format == "csv" {
@@ -123,6 +124,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	interrupted := runBatch(ctx, files, w, o.jobs, func(i int, shots []*shot.Shot) {
 		series.Add(shots...)
 		for _, s := range shots {
+			lost = lost || s.PlotsLost()
 			rows = append(rows, s.Rows...)
 			printRows(e, o.format, csvOut, s.Rows)
 		}
@@ -143,6 +145,9 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	}
 	if interrupted {
 		return exitInterrupted
+	}
+	if lost {
+		return exitFileErrors
 	}
 	return exitStatus(sum)
 }

@@ -158,3 +158,22 @@ func TestWatchWaitsForCompleteFiles(t *testing.T) {
 	require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
 	assert.Equal(t, 1, sum.Files)
 }
+
+// A plot that cannot be written is a warning on its row and a non-zero exit, never a
+// row that claims a plot.
+func TestPlotWriteFailureIsReported(t *testing.T) {
+	if os.Geteuid() == 0 {
+		t.Log("as root, permissions do not stop writes: a file in the way of the plots folder does")
+	}
+	dir, out := t.TempDir(), filepath.Join(t.TempDir(), "out")
+	writeShot(t, filepath.Join(dir, "a.csv"), spec(1.2, 50, 300e3, 1), "text")
+	require.NoError(t, os.MkdirAll(out, 0o755))
+	require.NoError(t, os.WriteFile(filepath.Join(out, ".hvshot-output"), nil, 0o644))
+	require.NoError(t, os.WriteFile(filepath.Join(out, "plots"), []byte("in the way"), 0o644))
+	code, stdout, _ := runCmd("analyze", "--quiet", "--format", "jsonl", "--out", out, dir)
+	assert.Equal(t, exitFileErrors, code)
+	assert.Contains(t, stdout, `"code":"plot-failed"`)
+	assert.Contains(t, stdout, `"verdict":"pass"`, "the evaluation itself stands")
+	html := string(mustRead(t, filepath.Join(out, "report.html")))
+	assert.Contains(t, html, "plot-failed")
+}

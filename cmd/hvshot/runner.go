@@ -102,7 +102,7 @@ func (w *worker) draw(s *shot.Shot) {
 			err = w.out.WriteBytes(rel, b.Bytes())
 		}
 		if err != nil {
-			r.Warnings = append(r.Warnings, shot.Warning{Code: "plot-failed", Text: err.Error()})
+			r.Warnings = append(r.Warnings, shot.Warning{Code: shot.PlotFailed, Text: err.Error()})
 			continue
 		}
 		r.Plot = rel

@@ -29,6 +29,21 @@ type Curves struct {
 	Quantity, Unit      string // "current", "A" or "field", "V/m"
 }
 
+// PlotFailed is the warning code of a row whose plot could not be written.
+const PlotFailed = "plot-failed"
+
+// PlotsLost reports whether a plot of the shot could not be written.
+func (s *Shot) PlotsLost() bool {
+	for _, r := range s.Rows {
+		for _, w := range r.Warnings {
+			if w.Code == PlotFailed {
+				return true
+			}
+		}
+	}
+	return false
+}
+
 // Failed is the shot of a file that could not be read: one error row naming it.
 func Failed(id string, err error) *Shot {
 	msg := err.Error()
