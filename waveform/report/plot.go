@@ -36,33 +36,44 @@ func ParsePlotFormat(s string) (PlotFormat, error) {
 	return "", fmt.Errorf("svg, png or none, not %q", s)
 }
 
-// decimate keeps at most about max points, the minimum and maximum of each bucket, so
-// spikes and the peak survive on the plot.
-func decimate(t0, dt float64, y []float64, tScale, yScale float64, max int) plotter.XYs {
+// A panel is 13 cm wide: about 490 pixels at 96 per inch. Lines are drawn from the
+// minimum and maximum of each of columns stretches of the record, about twice the
+// panel's pixel width in points, so every pixel column holds the extremes of the samples
+// it covers: the drawing looks as all the samples would (visually lossless), while a
+// plot's size and cost stay bounded whatever the record's length. Smooth curves (the
+// base curve, the tolerance limits) need fewer.
+const (
+	columns       = 500
+	smoothColumns = 200
+)
+
+// decimate returns the points of y (times t0 + i dt) to draw in the given number of
+// columns: each column's minimum and maximum, in time order; NaN samples (past a chop)
+// are left out.
+func decimate(t0, dt float64, y []float64, tScale, yScale float64, cols int) plotter.XYs {
 	n := len(y)
-	b := 1
-	if n > max {
-		b = (n + max/2 - 1) / (max / 2)
-	}
-	var out plotter.XYs
+	b := max(1, (n+cols-1)/cols)
+	out := make(plotter.XYs, 0, 2*min(n, cols)+2)
 	for i := 0; i < n; i += b {
 		j := min(i+b, n)
-		lo, hi := i, i
+		lo, hi := -1, -1
 		for k := i; k < j; k++ {
 			if math.IsNaN(y[k]) {
 				continue
 			}
-			if y[k] < y[lo] || math.IsNaN(y[lo]) {
+			if lo < 0 || y[k] < y[lo] {
 				lo = k
 			}
-			if y[k] > y[hi] || math.IsNaN(y[hi]) {
+			if hi < 0 || y[k] > y[hi] {
 				hi = k
 			}
 		}
-		for _, k := range []int{min(lo, hi), max2(lo, hi)} {
-			if !math.IsNaN(y[k]) {
-				out = append(out, plotter.XY{X: (t0 + float64(k)*dt) * tScale, Y: y[k] * yScale})
-			}
+		if lo < 0 {
+			continue
+		}
+		out = append(out, plotter.XY{X: (t0 + float64(min(lo, hi))*dt) * tScale, Y: y[min(lo, hi)] * yScale})
+		if lo != hi {
+			out = append(out, plotter.XY{X: (t0 + float64(max2(lo, hi))*dt) * tScale, Y: y[max2(lo, hi)] * yScale})
 		}
 	}
 	return out
@@ -102,12 +113,19 @@ var (
 	colMark     = color.RGBA{214, 39, 40, 255}
 )
 
-func line(xy plotter.XYs, c color.Color, width vg.Length, dashes ...vg.Length) *plotter.Line {
+// quietLine is a line that reports no glyph boxes. gonum/plot asks every plotter for
+// them to pad the axes, and a line reports one per point, empty (it draws no glyphs):
+// that layout pass was most of a plot's time and memory, for the same picture.
+type quietLine struct{ *plotter.Line }
+
+func (quietLine) GlyphBoxes(*plot.Plot) []plot.GlyphBox { return nil }
+
+func line(xy plotter.XYs, c color.Color, width vg.Length, dashes ...vg.Length) quietLine {
 	l, _ := plotter.NewLine(xy)
 	l.Color = c
 	l.Width = width
 	l.Dashes = dashes
-	return l
+	return quietLine{l}
 }
 
 // Plot draws a row's curves, titled with its shot and channel, and writes the plot in
@@ -122,7 +140,7 @@ func Plot(w io.Writer, c *shot.Curves, title string, format PlotFormat) error {
 	scale, unit := 1e-3, "k"+c.Unit
 	p.Y.Label.Text = fmt.Sprintf("%s (%s)", c.Quantity, unit)
 	p.Add(plotter.NewGrid())
-	p.Add(line(decimate(c.Start_s, c.Interval_s, c.Signal, 1e6, scale, 3000), colBase, vg.Points(1.2)))
+	p.Add(line(decimate(c.Start_s, c.Interval_s, c.Signal, 1e6, scale, columns), colBase, vg.Points(1.2)))
 	return save(w, format, p)
 }
 
@@ -160,20 +178,20 @@ func plotImpulse(w io.Writer, c *shot.Curves, title string, format PlotFormat) e
 		i0 := max2(0, int((lo-r.Start_s)/r.Interval_s))
 		i1 := min(n, int((hi-r.Start_s)/r.Interval_s)+2)
 		t0 := r.Start_s + float64(i0)*r.Interval_s
-		seg := func(y []float64) plotter.XYs { return decimate(t0, r.Interval_s, y[i0:i1], ts, vs, 2500) }
-		rec := line(seg(r.Recorded), colRecorded, vg.Points(1))
+		seg := func(y []float64, cols int) plotter.XYs { return decimate(t0, r.Interval_s, y[i0:i1], ts, vs, cols) }
+		rec := line(seg(r.Recorded, columns), colRecorded, vg.Points(1))
 		p.Add(rec)
 		if legend {
 			p.Legend.Add("recorded", rec)
 		}
 		if r.FitOK {
-			b := line(seg(r.Base), colBase, vg.Points(1), vg.Points(4), vg.Points(2))
+			b := line(seg(r.Base, smoothColumns), colBase, vg.Points(1), vg.Points(4), vg.Points(2))
 			p.Add(b)
 			if legend {
 				p.Legend.Add("base curve", b)
 			}
 		}
-		tv := line(seg(r.TestVoltage), colTest, vg.Points(1.2))
+		tv := line(seg(r.TestVoltage, columns), colTest, vg.Points(1.2))
 		p.Add(tv)
 		if legend {
 			p.Legend.Add("test voltage curve", tv)
@@ -190,7 +208,7 @@ func plotImpulse(w io.Writer, c *shot.Curves, title string, format PlotFormat) e
 				sh.U = r.TestVoltage_v / sh.PeakFactor()
 				y := make([]float64, i1-i0)
 				sh.Eval(t0, r.Interval_s, y)
-				l := line(decimate(t0, r.Interval_s, y, ts, vs, 1500), colBand, vg.Points(0.8), vg.Points(2), vg.Points(2))
+				l := line(decimate(t0, r.Interval_s, y, ts, vs, smoothColumns), colBand, vg.Points(0.8), vg.Points(2), vg.Points(2))
 				p.Add(l)
 				if legend && i == 0 {
 					p.Legend.Add(fmt.Sprintf("tolerance limits of %s", nom), l)

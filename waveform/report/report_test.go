@@ -107,3 +107,17 @@ func TestTableAndSummary(t *testing.T) {
 	assert.Contains(t, out, "2 files, 2 channel rows: 1 pass, 1 fail, 0 error")
 	assert.Regexp(t, `front time T1\s+2\s+1\.5`, out)
 }
+
+// BenchmarkPlot draws one divider's two-panel plot from a 12,001-sample record.
+func BenchmarkPlot(b *testing.B) {
+	rec, _ := synth.Generate(synth.Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, Noise: 0.003, PreTrigger_s: 4e-6, Interval_s: 10e-9, Duration_s: 120e-6})
+	s := shot.Evaluate(rec, "a.csv", shot.NewConfig())
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		var buf bytes.Buffer
+		if err := report.Plot(&buf, s.Curves[0], "a.csv", report.SVG); err != nil {
+			b.Fatal(err)
+		}
+		b.SetBytes(int64(buf.Len()))
+	}
+}
