@@ -57,15 +57,22 @@ type sources struct {
 // newSources has nothing to give: every number absent.
 func newSources() *sources { return &sources{efficiency: math.NaN(), droop_s: math.NaN()} }
 
-func fromImpulse(f func(*impulse.Result) float64) func(*sources) float64 {
+// from makes a column's getter: the value f takes from the result pick finds, NaN
+// when the row has no such result.
+func from[R any](pick func(*sources) *R, f func(*R) float64) func(*sources) float64 {
 	return func(s *sources) float64 {
-		if s.imp == nil {
-			return math.NaN()
+		if r := pick(s); r != nil {
+			return f(r)
 		}
-		return f(s.imp)
+		return math.NaN()
 	}
 }
 
+func fromImpulse(f func(*impulse.Result) float64) func(*sources) float64 {
+	return from(func(s *sources) *impulse.Result { return s.imp }, f)
+}
+
+// fromFit is fromImpulse for what needs the base curve's fit.
 func fromFit(f func(*impulse.Result) float64) func(*sources) float64 {
 	return fromImpulse(func(r *impulse.Result) float64 {
 		if !r.FitOK {
@@ -76,21 +83,11 @@ func fromFit(f func(*impulse.Result) float64) func(*sources) float64 {
 }
 
 func fromCurrent(f func(*probe.CurrentResult) float64) func(*sources) float64 {
-	return func(s *sources) float64 {
-		if s.cur == nil {
-			return math.NaN()
-		}
-		return f(s.cur)
-	}
+	return from(func(s *sources) *probe.CurrentResult { return s.cur }, f)
 }
 
 func fromField(f func(*probe.FieldResult) float64) func(*sources) float64 {
-	return func(s *sources) float64 {
-		if s.fld == nil {
-			return math.NaN()
-		}
-		return f(s.fld)
-	}
+	return from(func(s *sources) *probe.FieldResult { return s.fld }, f)
 }
 
 // The columns other code refers to by name.
