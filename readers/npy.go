@@ -26,6 +26,7 @@ type NPYOptions struct {
 	Interval_s float64 // required unless the array has a time column
 	TimeColumn string  // "auto", "first" or "none"
 	Names      []string
+	SizeHint   int64 // the file's size when known; sizes the columns, never trusted beyond the data
 }
 
 var (
@@ -122,31 +123,9 @@ func ReadNPY(r io.Reader, file string, opt NPYOptions) (*waveform.Record, error)
 	if rows*cols == 0 {
 		return nil, byteErr(file, off, ErrNoData, "the array is empty")
 	}
-	vals, err := decodeSamples(br, st, rows*cols, off, file)
+	colv, err := decodeColumns(br, st, rows, cols, fortran, off, file, opt.SizeHint)
 	if err != nil {
 		return nil, err
-	}
-	colv := make([][]float64, cols)
-	for c := range colv {
-		colv[c] = make([]float64, rows)
-		for i := 0; i < rows; i++ {
-			idx := i*cols + c
-			if fortran {
-				idx = c*rows + i
-			}
-			colv[c][i] = vals[idx]
-		}
-	}
-	for c := range colv {
-		for i, v := range colv[c] {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				idx := i*cols + c
-				if fortran {
-					idx = c*rows + i
-				}
-				return nil, byteErr(file, off+int64(idx*st.size), ErrNotFinite, fmt.Sprintf("row %d, column %d", i, c))
-			}
-		}
 	}
 	rec := &waveform.Record{Source: file, Format: "npy", Meta: map[string]string{"npy descr": descr, "npy shape": s[1]}}
 	first := 0
@@ -191,6 +170,89 @@ func ReadNPY(r io.Reader, file string, opt NPYOptions) (*waveform.Record, error)
 	return rec, nil
 }
 
+// decodeColumns reads a rows x cols array straight into its columns in one pass over
+// the data: C order deals each chunk's rows out to the columns, Fortran order decodes
+// each column in place. The columns grow as data arrive (sized from the file's size
+// when known), so a header that lies about the shape costs no more memory than the file
+// holds; a truncated array, or a NaN or infinity, is an error at its byte.
+func decodeColumns(r io.Reader, st sampleType, rows, cols int, fortran bool, off int64, file string, sizeHint int64) ([][]float64, error) {
+	est := rows
+	if sizeHint > 0 {
+		est = min(est, int((sizeHint-off)/int64(cols*st.size))+1)
+	} else {
+		est = min(est, 1<<20)
+	}
+	colv := make([][]float64, cols)
+	for c := range colv {
+		colv[c] = make([]float64, 0, max(est, 0))
+	}
+	isFloat := st.name == "float32" || st.name == "float64"
+	// A chunk of whole rows (C order) or of one type's samples (Fortran order).
+	unit := st.size
+	if !fortran {
+		unit *= cols
+	}
+	buf := make([]byte, max(1, (1<<16)/unit)*unit)
+	var tmp []float64
+	total, done := rows*cols, 0
+	for done < total {
+		want := min(len(buf), (total-done)*st.size)
+		if fortran {
+			// never across a column's end
+			c := done / rows
+			want = min(want, (rows-len(colv[c]))*st.size)
+		}
+		n, err := io.ReadFull(r, buf[:want])
+		n -= n % unit
+		if fortran {
+			c := done / rows
+			k := len(colv[c])
+			colv[c] = convert(colv[c], buf[:n], st, 1, 0)
+			if isFloat {
+				if i := firstNotFinite(colv[c][k:]); i >= 0 {
+					return nil, byteErr(file, off+int64((done+i)*st.size), ErrNotFinite, fmt.Sprintf("row %d, column %d", k+i, c))
+				}
+			}
+		} else if cols == 1 {
+			k := len(colv[0])
+			colv[0] = convert(colv[0], buf[:n], st, 1, 0)
+			if isFloat {
+				if i := firstNotFinite(colv[0][k:]); i >= 0 {
+					return nil, byteErr(file, off+int64((done+i)*st.size), ErrNotFinite, fmt.Sprintf("row %d", k+i))
+				}
+			}
+		} else {
+			tmp = convert(tmp[:0], buf[:n], st, 1, 0)
+			if isFloat {
+				if i := firstNotFinite(tmp); i >= 0 {
+					return nil, byteErr(file, off+int64((done+i)*st.size), ErrNotFinite, fmt.Sprintf("row %d, column %d", (done+i)/cols, (done+i)%cols))
+				}
+			}
+			for c := range colv {
+				dst := colv[c]
+				for i := c; i < len(tmp); i += cols {
+					dst = append(dst, tmp[i])
+				}
+				colv[c] = dst
+			}
+		}
+		done += n / st.size
+		if err != nil && done < total {
+			return nil, byteErr(file, off+int64(done*st.size), ErrTruncated, fmt.Sprintf("%d of %d samples present", done, total))
+		}
+	}
+	return colv, nil
+}
+
+func firstNotFinite(x []float64) int {
+	for i, v := range x {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return i
+		}
+	}
+	return -1
+}
+
 // sampleType is one binary sample encoding.
 type sampleType struct {
 	name  string // int8, int16, int32, int64, uint8, uint16, uint32, float32, float64
@@ -225,29 +287,6 @@ func newSampleType(name string, order binary.ByteOrder) (sampleType, error) {
 		return sampleType{}, fmt.Errorf("sample type %q (one of int8, uint8, int16, uint16, int32, uint32, int64, float32, float64)", name)
 	}
 	return sampleType{name: name, size: s, order: order}, nil
-}
-
-// decodeSamples reads exactly count samples, growing the result as data arrive so a
-// header that lies about the size costs no more memory than the file holds.
-func decodeSamples(r io.Reader, st sampleType, count int, off int64, file string) ([]float64, error) {
-	capHint := count
-	if capHint > 1<<20 {
-		capHint = 1 << 20
-	}
-	out := make([]float64, 0, capHint)
-	buf := make([]byte, 1<<16-(1<<16)%st.size)
-	for len(out) < count {
-		want := (count - len(out)) * st.size
-		if want > len(buf) {
-			want = len(buf)
-		}
-		n, err := io.ReadFull(r, buf[:want])
-		out = convert(out, buf[:n-n%st.size], st, 1, 0)
-		if err != nil {
-			return nil, byteErr(file, off+int64(len(out)*st.size)+int64(n%st.size), ErrTruncated, fmt.Sprintf("%d of %d samples present", len(out), count))
-		}
-	}
-	return out, nil
 }
 
 // convert appends the samples in b, scaled as v*gain + offset, to out.

@@ -127,7 +127,7 @@ func readAll(r io.Reader, name string, opt Options) ([]*waveform.Record, error) 
 func readOne(br *bufio.Reader, head []byte, name string, opt Options, r io.Reader) (*waveform.Record, error) {
 	switch SniffFormat(head, name) {
 	case FormatNPY:
-		return ReadNPY(br, name, NPYOptions{Interval_s: opt.Interval_s, TimeColumn: opt.TimeColumn, Names: opt.Names})
+		return ReadNPY(br, name, NPYOptions{Interval_s: opt.Interval_s, TimeColumn: opt.TimeColumn, Names: opt.Names, SizeHint: sizeHint(r, opt)})
 	case FormatRaw:
 		if opt.Raw == nil {
 			if len(head) == 0 {
