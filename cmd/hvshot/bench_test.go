@@ -4,8 +4,10 @@ import (
 	"context"
 	"fmt"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"sync"
+	"syscall"
 	"testing"
 
 	"github.com/hvshot/hvshot/readers"
@@ -80,4 +82,42 @@ func BenchmarkBatch(b *testing.B) {
 		}
 		b.ReportMetric(float64(len(files)*b.N)/b.Elapsed().Seconds(), "shots/s")
 	})
+}
+
+// BenchmarkPeakRSS runs the default analyze (SVG plots and the report, jobs 2) as a
+// process over 10, 100 and 1,000 invented shots of 12,001 samples and reports its peak
+// resident memory, which should not grow with the number of shots.
+func BenchmarkPeakRSS(b *testing.B) {
+	dir := b.TempDir()
+	rec, err := synth.Generate(synth.Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, Noise: 0.003, PreTrigger_s: 4e-6, Interval_s: 10e-9, Duration_s: 120e-6})
+	if err != nil {
+		b.Fatal(err)
+	}
+	one := filepath.Join(dir, "one.csv")
+	if err := writeCapture(one, "text", rec); err != nil {
+		b.Fatal(err)
+	}
+	data, _ := os.ReadFile(one)
+	for _, n := range []int{10, 100, 1000} {
+		caps := filepath.Join(dir, fmt.Sprint(n))
+		os.MkdirAll(caps, 0o755)
+		for i := 0; i < n; i++ {
+			os.WriteFile(filepath.Join(caps, fmt.Sprintf("shot%04d.csv", i)), data, 0o644)
+		}
+		b.Run(fmt.Sprintf("shots=%d", n), func(b *testing.B) {
+			var peak int64
+			for i := 0; i < b.N; i++ {
+				cmd := exec.Command(os.Args[0], "analyze", "--quiet", "--jobs", "2", "--force", "--out", filepath.Join(dir, fmt.Sprintf("out%d", n)), caps)
+				cmd.Env = append(os.Environ(), "HVSHOT_AS_MAIN=1")
+				if out, err := cmd.CombinedOutput(); err != nil {
+					b.Fatalf("%v: %s", err, out)
+				}
+				if ru, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage); ok {
+					peak = max(peak, ru.Maxrss) // kilobytes on Linux
+				}
+			}
+			b.ReportMetric(float64(peak)/1024, "peak-MB")
+			b.ReportMetric(float64(n*b.N)/b.Elapsed().Seconds(), "shots/s")
+		})
+	}
 }
