@@ -125,6 +125,12 @@ func blockRun(got []shapeInfo) (start, run, width int) {
 			counts[g.n]++
 		}
 	}
+	if len(counts) == 0 {
+		// No row without an empty cell: an empty column runs through the data.
+		for _, g := range got {
+			counts[g.n]++
+		}
+	}
 	for n, k := range counts {
 		if k > counts[width] || (k == counts[width] && n > width) {
 			width = n

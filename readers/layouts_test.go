@@ -95,3 +95,116 @@ func TestLayoutFixtures(t *testing.T) {
 		})
 	}
 }
+
+// rows writes n rows of "t,u" with t = t0 + i*dt printed by format tf.
+func rows(n int, t0, dt float64, tf string) string {
+	var b strings.Builder
+	for i := 0; i < n; i++ {
+		b.WriteString(fmtCell(tf, t0+float64(i)*dt))
+		b.WriteString(",")
+		b.WriteString(fmtCell("%.4f", math.Sin(float64(i)/5)))
+		b.WriteString("\n")
+	}
+	return b.String()
+}
+
+func fmtCell(f string, v float64) string { return strings.TrimSpace(sprintf(f, v)) }
+
+// Rules of the time base and of refusals (issue 19, build items 2 and 4). Inputs are
+// invented; each case states what the file says and what must come of it.
+func TestTextTimeBaseRules(t *testing.T) {
+	big := strings.Repeat("Setting,"+strings.Repeat("x", 60)+"\n", 15000) // 1 MB of preamble
+	cases := []struct {
+		name     string
+		in       string
+		opt      Options
+		err      error
+		line     int
+		words    []string // in the error, or in the warnings and notes
+		absent   []string // not in the error
+		interval float64
+		tol      float64 // relative, on the interval; 1e-9 when 0
+		start    float64
+		n        int
+	}{
+		{name: "stated interval contradicts the time column", in: "Sample Interval: 2 ns\nt,U\n" + rows(20, 0, 1e-9, "%.3e"),
+			err: ErrTimeBase, line: 1, words: []string{"2e-09 s", "1e-09 s", "--interval"}},
+		{name: "stated interval and a coarse time column that agrees", in: "Sample Interval: 2e-6\nt,U\n" + rows(50, -1e-3, 2e-6, "%.5f"),
+			interval: 2e-6, start: -1e-3, n: 50, words: []string{"from line 1"}},
+		{name: "--interval replaces a time column, with a warning", in: "t,U\n" + rows(20, 0, 1, "%g"), opt: Options{Interval_s: 1e-8},
+			interval: 1e-8, n: 20, words: []string{"--interval 1e-08 s replaces the step of 1 s"}},
+		{name: "--interval replaces a stated interval, with a warning", in: "Sample Interval: 2 ns\n" + rows(20, 0, 1, "%g")[:0] + strings.Repeat("1.5\n", 20), opt: Options{Interval_s: 1e-8},
+			interval: 1e-8, n: 20, words: []string{"replaces the interval of 2e-09 s that line 1 states"}},
+		{name: "--interval on a sample index", in: rows(20, 0, 1, "%.0f"), opt: Options{Interval_s: 1e-8},
+			interval: 1e-8, n: 20, words: []string{"counts samples"}},
+		{name: "a sample index and no interval", in: rows(20, 0, 1, "%.0f"),
+			err: ErrNoInterval, words: []string{"counts samples", "first data line 1", "--interval"}, absent: []string{"--time-column"}},
+		{name: "one column and no interval", in: "U\n" + strings.Repeat("1.5\n", 20),
+			err: ErrNoInterval, words: []string{"header line 1 \"U\"", "first data line 2 \"1.5\"", "--interval"}, absent: []string{"--time-column"}},
+		{name: "an unknown time name suggests --time-column", in: "Zeitachse,U\n" + rows(20, 0, 1e-9, "%.3e"),
+			err: ErrNoInterval, words: []string{"--time-column first", "--interval"}},
+		{name: "--time-column first takes the unit from the header", in: "t_us,u_kv\n" + rows(20, 0, 0.5, "%g"), opt: Options{TimeColumn: "first"},
+			interval: 0.5e-6, n: 20},
+		{name: "empty cells between rows of values", in: "t,U\n" + rows(10, 0, 1e-9, "%.3e") + "1.0e-8,\n" + rows(10, 1.1e-8, 1e-9, "%.3e"),
+			err: ErrEmptyCell, line: 12, words: []string{"only the first and last rows"}},
+		{name: "fewer rows than stated", in: "Record Length: 30\nSample Interval: 1 ns\n" + strings.Repeat("1.5\n", 20),
+			err: ErrTruncated, line: 22, words: []string{"states 30 points"}},
+		{name: "a unit stated twice, differently", in: "Vertical Units: mV\nt,U [V]\n" + rows(20, 0, 1e-9, "%.3e"),
+			err: ErrHeader, line: 2, words: []string{"\"V\"", "\"mV\""}},
+		{name: "time unit stated twice, differently", in: "Horizontal Units: us\nTime (s),U\n" + rows(20, 0, 1e-9, "%.3e"),
+			err: ErrTimeBase, line: 2},
+		{name: "a value past the head in a column empty in it", in: "t,,U\n" + strings.ReplaceAll(rows(14000, 0, 1e-9, "%.5e"), ",", ",,") + "1.4e-5,7,1\n",
+			err: ErrRagged, line: 14002},
+		{name: "an index unit over a column that does not count", in: "X,CH1\nSequence,Volt\n" + rows(20, 0, 2, "%.0f"),
+			err: ErrHeader, line: 2, words: []string{"should count samples"}},
+		{name: "data after 1 MB of preamble", in: big + "Sample Interval: 1 ns\n" + strings.Repeat("2.5\n", 20),
+			interval: 1e-9, n: 20, words: []string{"searched for data only"}},
+		{name: "a time column with jitter within its printed digits", in: "t,U\n" + rows(50, 1.5, 703.125e-6, "%+.7E"),
+			// the span of 49 steps, its ends printed to 1e-7 s: within 3e-9 s of the step
+			interval: 703.125e-6, tol: 5e-6, start: 1.5, n: 50, words: []string{"printed to about"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			rec, err := Read(strings.NewReader(c.in), "rule.csv", c.opt)
+			if c.err != nil {
+				require.Error(t, err)
+				assert.ErrorIs(t, err, c.err)
+				var pe *ParseError
+				require.True(t, errors.As(err, &pe), "%T", err)
+				assert.Equal(t, "rule.csv", pe.File)
+				if c.line > 0 {
+					assert.Equal(t, c.line, pe.Line, err.Error())
+				}
+				for _, w := range c.words {
+					assert.Contains(t, err.Error(), w)
+				}
+				for _, w := range c.absent {
+					assert.NotContains(t, err.Error(), w)
+				}
+				return
+			}
+			require.NoError(t, err)
+			assert.InEpsilon(t, c.interval, rec.Interval_s, max(c.tol, 1e-9))
+			assert.InDelta(t, c.start, rec.Start_s, 1e-3*c.interval)
+			assert.Equal(t, c.n, rec.Len())
+			said := strings.Join(append(append([]string{}, rec.Notes...), rec.Warnings...), "\n")
+			for _, w := range c.words {
+				assert.Contains(t, said, w)
+			}
+		})
+	}
+}
+
+// An acquisition time stated in the preamble becomes Record.Trigger.
+func TestTextTriggerTime(t *testing.T) {
+	in := "Trigger Time: 2024-05-06 07:08:09.5\nSample Interval: 1 ns\n" + strings.Repeat("2.5\n", 10)
+	rec, err := Read(strings.NewReader(in), "stamp.csv", Options{})
+	require.NoError(t, err)
+	assert.Equal(t, "2024-05-06T07:08:09.5Z", rec.Trigger.Format("2006-01-02T15:04:05.999Z07:00"))
+
+	in = "Date,2024-05-06\nTime,07:08:09\nSample Interval: 1 ns\n" + strings.Repeat("2.5\n", 10)
+	rec, err = Read(strings.NewReader(in), "stamp.csv", Options{})
+	require.NoError(t, err)
+	assert.Equal(t, 2024, rec.Trigger.Year())
+	assert.Equal(t, 8, rec.Trigger.Minute())
+}
