@@ -80,7 +80,7 @@ func TestSplitHeader(t *testing.T) {
 		{"e_v_per_m", "e", "V/m"},
 		{"e_kv_per_m", "e", "kV/m"},
 		{"peak_ms", "peak", "ms"},
-		{"u_mv", "u", "mV"},  // snake_case writes milli in lower case
+		{"u_mv", "u", "mV"},   // snake_case writes milli in lower case
 		{"f_mhz", "f", "MHz"}, // nobody records millihertz
 		{"u_divider_kv", "u_divider", "kV"},
 		{"ch_a", "ch_a", ""},         // channel A, not a current
