@@ -519,9 +519,11 @@ func timeBase(t []float64, q float64, pre *preamble, user float64, lineOf func(i
 	}
 	eps := 4e-16 * maxAbs(t)
 	worstOff := func(dt float64) float64 {
-		w := 0.0
+		w, t0 := 0.0, t[0]
 		for i, v := range t {
-			w = math.Max(w, math.Abs(v-(t[0]+float64(i)*dt)))
+			if d := math.Abs(v - (t0 + float64(i)*dt)); d > w {
+				w = d
+			}
 		}
 		return w
 	}

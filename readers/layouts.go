@@ -232,7 +232,19 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 	}
 	best := Dialect{}
 	bestRun, bestStart := 0, -1
+	// A semicolon or tab dialect when the head holds no such byte reads every line as
+	// one field, as the comma dialect then does where it has no comma: skip it.
+	var seen [256]bool
+	for _, sl := range lines {
+		for _, c := range sl.text {
+			seen[c] = true
+		}
+	}
+	absent := func(d Dialect) bool { return (d.Delim == ';' || d.Delim == '\t') && !seen[d.Delim] }
 	for _, d := range dialects {
+		if absent(d) {
+			continue
+		}
 		start, run, width := dataRun(lines, d)
 		if run == 0 {
 			continue
@@ -244,6 +256,9 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 	}
 	p := &plan{}
 	for _, d := range dialects {
+		if absent(d) || (d.Delim == ',' && !seen[',']) {
+			continue
+		}
 		start, run, blocks, settings := sideRun(lines, d)
 		if settings && run > bestRun {
 			p.kind, p.blocks = layoutSide, blocks
