@@ -1,6 +1,7 @@
 package readers
 
 import (
+	"bytes"
 	"encoding/json"
 	"errors"
 	"math"
@@ -207,4 +208,34 @@ func TestTextTriggerTime(t *testing.T) {
 	require.NoError(t, err)
 	assert.Equal(t, 2024, rec.Trigger.Year())
 	assert.Equal(t, 8, rec.Trigger.Minute())
+}
+
+// What hvshot writes it reads back the same, settings included: the written preamble
+// states the interval (and the settings the layout carried), which must agree with
+// the written time column.
+func TestLayoutsRoundTrip(t *testing.T) {
+	for _, name := range []string{"layout_settings_beside.csv", "layout_index_start_increment.csv", "layout_screen_codes.csv", "layout_time_few_digits.csv"} {
+		t.Run(name, func(t *testing.T) {
+			rec, err := ReadFile(filepath.Join("../testdata/readers", name), Options{})
+			require.NoError(t, err)
+			for _, digits := range []int{-1, 9} {
+				var b bytes.Buffer
+				require.NoError(t, WriteTextDigits(&b, rec, digits))
+				back, err := Read(&b, "back.csv", Options{})
+				require.NoError(t, err, "digits %d", digits)
+				assert.Empty(t, back.Warnings)
+				assert.InEpsilon(t, rec.Interval_s, back.Interval_s, 1e-12)
+				assert.InDelta(t, rec.Start_s, back.Start_s, 1e-6*rec.Interval_s)
+				require.Len(t, back.Channels, len(rec.Channels))
+				for k, ch := range back.Channels {
+					assert.Equal(t, rec.Channels[k].Name, ch.Name)
+					assert.Equal(t, rec.Channels[k].Unit, ch.Unit)
+					require.Len(t, ch.Samples, rec.Len())
+					for i, v := range ch.Samples {
+						require.InDelta(t, rec.Channels[k].Samples[i], v, 1e-8*math.Abs(rec.Channels[k].Samples[i])+1e-300, "sample %d", i)
+					}
+				}
+			}
+		})
+	}
 }
