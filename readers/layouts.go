@@ -4,6 +4,8 @@ import (
 	"bytes"
 	"fmt"
 	"strings"
+
+	"github.com/hvshot/hvshot/waveform"
 )
 
 // The sniffing phase: everything about a text file's layout is decided here, from the
@@ -84,13 +86,14 @@ func classify(l []byte, d Dialect) (n int, ok, full, allEmpty, ends bool) {
 // among its rows without an empty cell; rows with fewer fields that end in the
 // delimiter are rows with empty cells at the end. Rows of numbers of another width
 // are kept in the block so that the reader reports them where they are.
-func dataRun(lines []sniffLine, d Dialect) (start, run, width int) {
+func dataRun(lines []sniffLine, d Dialect) (start, end, run, width int) {
 	start = -1
 	var cur []shapeInfo
 	finish := func() {
 		s, r, w := blockRun(cur)
 		if r > run || (r == run && w > width) {
 			start, run, width = s, r, w
+			end = cur[len(cur)-1].i
 		}
 		cur = cur[:0]
 	}
@@ -114,7 +117,7 @@ func dataRun(lines []sniffLine, d Dialect) (start, run, width int) {
 	if len(cur) > 0 {
 		finish()
 	}
-	return start, run, width
+	return start, end, run, width
 }
 
 // blockRun measures one block of data lines, walking up from its last line.
@@ -231,7 +234,7 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 		return nil, fileErr(file, ErrEmpty, "")
 	}
 	best := Dialect{}
-	bestRun, bestStart := 0, -1
+	bestRun, bestStart, bestEnd := 0, -1, -1
 	// A semicolon or tab dialect when the head holds no such byte reads every line as
 	// one field, as the comma dialect then does where it has no comma: skip it.
 	var seen [256]bool
@@ -245,12 +248,12 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 		if absent(d) {
 			continue
 		}
-		start, run, width := dataRun(lines, d)
+		start, end, run, width := dataRun(lines, d)
 		if run == 0 {
 			continue
 		}
 		if run > bestRun || (run == bestRun && width > best.Fields) {
-			best, bestRun, bestStart = d, run, start
+			best, bestRun, bestStart, bestEnd = d, run, start, end
 			best.Fields = width
 		}
 	}
@@ -262,14 +265,22 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 		start, run, blocks, settings := sideRun(lines, d)
 		if settings && run > bestRun {
 			p.kind, p.blocks = layoutSide, blocks
-			best, bestRun, bestStart = d, run, start
+			best, bestRun, bestStart, bestEnd = d, run, start, len(lines)-1
 			best.Fields = sideBlock*blocks - 1
 		}
 	}
-	if bestRun == 0 {
-		if !complete {
+	if !complete {
+		// Too few rows for a record, with text after them: a table inside a
+		// preamble, not the data. Read on.
+		last := len(lines) - 1
+		for last > 0 && (isBlank(lines[last].text) || isComment(lines[last].text)) {
+			last--
+		}
+		if bestRun == 0 || (bestRun < waveform.MinSamples && bestEnd < last) {
 			return nil, errNeedMore
 		}
+	}
+	if bestRun == 0 {
 		// name the last line that should have been data
 		for i := len(lines) - 1; i >= 0; i-- {
 			if !isBlank(lines[i].text) && !isComment(lines[i].text) {
@@ -292,9 +303,9 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 	if err := p.findHeader(lines, bestStart, file); err != nil {
 		return nil, err
 	}
-	upto := best.DataLine
-	if best.HeaderLine > 0 {
-		upto = best.HeaderLine
+	upto := p.d.DataLine
+	if p.d.HeaderLine > 0 {
+		upto = p.d.HeaderLine
 	}
 	var err error
 	if p.pre, err = parsePreamble(lines, upto, file); err != nil {

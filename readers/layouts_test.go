@@ -239,3 +239,25 @@ func TestLayoutsRoundTrip(t *testing.T) {
 		})
 	}
 }
+
+// A small table of numbers inside a long preamble is not the data (issue 19, item 12).
+func TestDataAfterTableInLongPreamble(t *testing.T) {
+	pre := strings.Repeat("Setting,"+strings.Repeat("y", 60)+"\n", 3000) + "1,2\n3,4\n5,6\n" + strings.Repeat("Other,"+strings.Repeat("z", 60)+"\n", 3000)
+	in := pre + "Sample Interval: 2 ns\n" + strings.Repeat("0.5\n", 30)
+	rec, err := Read(strings.NewReader(in), "table.csv", Options{})
+	require.NoError(t, err)
+	assert.Equal(t, 30, rec.Len())
+	assert.InEpsilon(t, 2e-9, rec.Interval_s, 1e-12)
+}
+
+// Header rows are not settings: a header "t_us,u_kv" once came back as the setting
+// t_us = u_kv.
+func TestHeaderIsNotMeta(t *testing.T) {
+	rec, err := ReadFile("../testdata/readers/pandas_t_us_u_kv.csv", Options{})
+	require.NoError(t, err)
+	assert.Empty(t, rec.Meta)
+	assert.NotContains(t, rec.Layout, "preamble")
+	rec, err = ReadFile("../testdata/readers/layout_names_units_source.csv", Options{})
+	require.NoError(t, err)
+	assert.Empty(t, rec.Meta)
+}

@@ -156,6 +156,10 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 	if err != nil {
 		return nil, err
 	}
+	if h.dropped[0] > 0 && p.d.DataLine <= h.dropped[1] {
+		// never: data are found at the end of the head that was kept, not before
+		return nil, lineErr(file, h.dropped[0], 0, ErrUnsupported, "the data start in a part of a long head that was not kept")
+	}
 	if h.dropped[0] > 0 {
 		p.notes = append(p.notes, fmt.Sprintf("lines %d-%d of a long head were searched for data only, not for settings", h.dropped[0], h.dropped[1]))
 	}
