@@ -105,6 +105,9 @@ func trimEOL(line []byte) []byte {
 // row; between full rows they are an error.
 type rowReader struct {
 	p     *plan
+	delim byte // the dialect's, kept here for the per-row scan
+	dec   byte
+	width int
 	file  string
 	cols  [][]float64
 	row   []float64
@@ -123,7 +126,8 @@ func newRowReader(p *plan, file string, sizeHint int64, head []sniffLine) *rowRe
 	if p.keep != nil {
 		n = len(p.keep)
 	}
-	rr := &rowReader{p: p, file: file, cols: make([][]float64, n), row: make([]float64, max(n, p.d.Fields)+1)}
+	rr := &rowReader{p: p, file: file, cols: make([][]float64, n), row: make([]float64, max(n, p.d.Fields)+1),
+		delim: p.d.Delim, dec: p.d.DecimalSep, width: p.d.Fields}
 	if sizeHint > 0 {
 		// Size the columns from the file size and the head's bytes per line, so a
 		// large file is not copied over and over as the columns grow.
@@ -155,13 +159,13 @@ func (rr *rowReader) add(line []byte, no int) error {
 		}
 	}
 	rr.lastLine = no
-	d := rr.p.d
 	if rr.p.keep == nil {
-		k, col, cause := scanRow(line, d.Delim, d.DecimalSep, rr.row)
-		if cause == nil && k == d.Fields {
+		k, col, cause := scanRow(line, rr.delim, rr.dec, rr.row)
+		if cause == nil && k == rr.width {
 			return rr.full(no)
 		}
 		// A row the fast scan refused may have empty value cells.
+		d := rr.p.d
 		if empty, _, err := scanKeep(line, d, rr.p.all, false, rr.row); err == nil && empty >= 0 {
 			return rr.edge(no, empty)
 		}
@@ -170,6 +174,7 @@ func (rr *rowReader) add(line []byte, no int) error {
 		}
 		return lineErr(rr.file, no, 0, ErrRagged, fmt.Sprintf("%d fields, the data start at line %d with %d", k, d.DataLine, d.Fields))
 	}
+	d := rr.p.d
 	empty, col, err := scanKeep(line, d, rr.p.keep, rr.p.strict, rr.row)
 	switch {
 	case err == ErrRagged:
