@@ -130,10 +130,15 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 	if bom, _ := br.Peek(3); bytes.Equal(bom, []byte{0xEF, 0xBB, 0xBF}) {
 		br.Discard(3)
 	}
-	arena := sniffBytes + MaxLineBytes
-	if opt.SizeHint > 0 && opt.SizeHint < int64(sniffBytes) {
-		// A small file: its size (plus slack) holds its head.
+	// The head's lines are copied into one arena: the head's size for a file of known
+	// size, else a small one that append grows (lines already stored keep their
+	// backing array), so that a short input costs no 320 KiB.
+	arena := 16 << 10
+	switch {
+	case opt.SizeHint > 0 && opt.SizeHint < int64(sniffBytes):
 		arena = int(opt.SizeHint) + 64
+	case opt.SizeHint > 0:
+		arena = sniffBytes + MaxLineBytes
 	}
 	h := headReader{br: br, file: file, arena: make([]byte, 0, arena)}
 	lines, err := h.read(nil, sniffBytes)
