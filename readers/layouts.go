@@ -86,9 +86,9 @@ func classify(l []byte, d Dialect) (n int, ok, full, allEmpty, ends bool) {
 // among its rows without an empty cell; rows with fewer fields that end in the
 // delimiter are rows with empty cells at the end. Rows of numbers of another width
 // are kept in the block so that the reader reports them where they are.
-func dataRun(lines []sniffLine, d Dialect) (start, end, run, width int) {
+func dataRun(lines []sniffLine, d Dialect, buf []shapeInfo) (start, end, run, width int) {
 	start = -1
-	var cur []shapeInfo
+	cur := buf[:0]
 	finish := func() {
 		s, r, w := blockRun(cur)
 		if r > run || (r == run && w > width) {
@@ -244,11 +244,12 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 		}
 	}
 	absent := func(d Dialect) bool { return (d.Delim == ';' || d.Delim == '\t') && !seen[d.Delim] }
+	shapes := make([]shapeInfo, 0, len(lines))
 	for _, d := range dialects {
 		if absent(d) {
 			continue
 		}
-		start, end, run, width := dataRun(lines, d)
+		start, end, run, width := dataRun(lines, d, shapes)
 		if run == 0 {
 			continue
 		}
