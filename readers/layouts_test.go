@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -109,7 +110,7 @@ func rows(n int, t0, dt float64, tf string) string {
 	return b.String()
 }
 
-func fmtCell(f string, v float64) string { return strings.TrimSpace(sprintf(f, v)) }
+func fmtCell(f string, v float64) string { return strings.TrimSpace(fmt.Sprintf(f, v)) }
 
 // Rules of the time base and of refusals (issue 19, build items 2 and 4). Inputs are
 // invented; each case states what the file says and what must come of it.

@@ -14,7 +14,7 @@ import (
 // Options collect what a file may not say about itself; the zero value asks the
 // readers to find everything in the content.
 type Options struct {
-	Interval_s float64  // sample interval when the file has none
+	Interval_s float64  // sample interval; replaces the file's own, with a warning when they differ
 	TimeColumn string   // "auto" (default), "first" or "none"
 	Raw        *RawSpec // describes a binary capture; ReadFile also finds a sidecar
 	Names      []string // channel names for formats that carry none

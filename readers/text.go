@@ -118,7 +118,7 @@ type sniffLine struct {
 
 // TextOptions are the settings a delimited file may lack.
 type TextOptions struct {
-	Interval_s float64 // used when there is no time column and no interval in the preamble
+	Interval_s float64 // the sample interval; replaces the file's own, with a warning when they differ
 	TimeColumn string  // "auto" (default), "first" or "none"
 	SizeHint   int64   // the file's size when known; only used to size buffers
 }
