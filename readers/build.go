@@ -278,12 +278,17 @@ func (p *plan) build(rr *rowReader, opt TextOptions, file string) (*waveform.Rec
 			rec.Notes = append(rec.Notes, fmt.Sprintf("column %d (%q: %g, %g, ...) counts rows: dropped", p.field(ic)+1, name(ic), cols[ic][0], cols[ic][min(1, rows-1)]))
 		}
 	default:
-		dt, warns, err := p.interval(opt, rr, ic >= 0, file)
+		dt, warn, note, err := p.interval(opt, rr, ic >= 0, file)
 		if err != nil {
 			return nil, err
 		}
 		rec.Interval_s = dt
-		rec.Warnings = append(rec.Warnings, warns...)
+		if warn != "" {
+			rec.Warnings = append(rec.Warnings, warn)
+		}
+		if note != "" {
+			rec.Notes = append(rec.Notes, note)
+		}
 		switch {
 		case ic >= 0:
 			rec.Start_s = p.pre.start + cols[ic][0]*dt
@@ -421,16 +426,18 @@ func (p *plan) isTime(cols [][]float64, c int) bool {
 
 // interval is the sample interval of a file without a time column: --interval over
 // the file's own, with a warning when they differ.
-func (p *plan) interval(opt TextOptions, rr *rowReader, index bool, file string) (float64, []string, error) {
+func (p *plan) interval(opt TextOptions, rr *rowReader, index bool, file string) (dt float64, warn, note string, err error) {
 	pi := p.pre.interval
 	switch {
 	case opt.Interval_s > 0:
 		if pi > 0 && math.Abs(pi-opt.Interval_s) > 1e-9*pi {
-			return opt.Interval_s, []string{fmt.Sprintf("--interval %s replaces the interval of %s that line %d states", fmtS(opt.Interval_s), fmtS(pi), p.pre.intervalLine)}, nil
+			return opt.Interval_s, fmt.Sprintf("--interval %s replaces the interval of %s that line %d states", fmtS(opt.Interval_s), fmtS(pi), p.pre.intervalLine), "", nil
 		}
-		return opt.Interval_s, nil, nil
+		return opt.Interval_s, "", "", nil
 	case pi > 0:
-		return pi, nil, nil
+		return pi, "", fmt.Sprintf("interval %s from line %d", fmtS(pi), p.pre.intervalLine), nil
+	case opt.DefaultInterval_s > 0:
+		return opt.DefaultInterval_s, "", fmt.Sprintf("the file states no sample interval: the default of %s applies", fmtS(opt.DefaultInterval_s)), nil
 	}
 	var b strings.Builder
 	if index {
@@ -445,7 +452,7 @@ func (p *plan) interval(opt TextOptions, rr *rowReader, index bool, file string)
 	if !index && len(rr.cols) >= 2 && looksUniform(rr.cols[0]) {
 		fmt.Fprintf(&b, ", or, if column 1 holds the time in seconds, --time-column first")
 	}
-	return 0, nil, fileErr(file, ErrNoInterval, b.String())
+	return 0, "", "", fileErr(file, ErrNoInterval, b.String())
 }
 
 func (p *plan) nameOr(c int) string {

@@ -119,8 +119,10 @@ type sniffLine struct {
 // TextOptions are the settings a delimited file may lack.
 type TextOptions struct {
 	Interval_s float64 // the sample interval; replaces the file's own, with a warning when they differ
-	TimeColumn string  // "auto" (default), "first" or "none"
-	SizeHint   int64   // the file's size when known; only used to size buffers
+	// DefaultInterval_s is used when the file states no time base; its own wins.
+	DefaultInterval_s float64
+	TimeColumn        string // "auto" (default), "first" or "none"
+	SizeHint          int64  // the file's size when known; only used to size buffers
 }
 
 // ReadText reads a delimited text capture. The head of the file (256 KiB, or further
