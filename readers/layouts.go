@@ -406,22 +406,25 @@ func (p *plan) findHeader(lines []sniffLine, start int, file string) error {
 	h1 := lines[i]
 	c1 := fieldStrings(h1.text, p.d.Delim)
 	var names, units []string
-	switch {
-	case unitsRow(c1, w):
-		j := i - 1
+	isUnits := unitsRow(c1, w)
+	j := i - 1
+	var c0 []string
+	if isUnits {
 		for j >= 0 && isComment(lines[j].text) {
 			j--
 		}
-		var c0 []string
 		if j >= 0 && !isBlank(lines[j].text) {
 			c0 = fieldStrings(lines[j].text, p.d.Delim)
 			if len(c0) < w || unitsRow(c0, w) || loneKeyValue(c0, lines[j].text) {
 				c0 = nil
 			}
 		}
-		if c0 == nil && w < 2 && !strings.ContainsAny(c1[0], "([") && len(c1[0]) < 3 {
-			return nil // a lone "V" or "A" may be a name as well as a unit
-		}
+		// A lone "V" or "A" over one column names it as much as it gives its unit:
+		// read it as a name, as a plain header row.
+		isUnits = c0 != nil || w >= 2 || strings.ContainsAny(c1[0], "([") || len(c1[0]) >= 3
+	}
+	switch {
+	case isUnits:
 		units = c1[:w]
 		p.unitLine = h1.no
 		p.d.HeaderLine = h1.no

@@ -143,6 +143,8 @@ func TestTextTimeBaseRules(t *testing.T) {
 			interval: 1e-8, n: 20, words: []string{"the default of 1e-08 s applies"}},
 		{name: "a stated interval wins over a default", in: "Sample Interval: 2 ns\n" + strings.Repeat("1.5\n", 20), opt: Options{DefaultInterval_s: 1e-8},
 			interval: 2e-9, n: 20},
+		{name: "a lone letter over one column is its name", in: "V\n" + strings.Repeat("1.5\n", 20), opt: Options{Interval_s: 1e-9},
+			interval: 1e-9, n: 20, words: []string{"line 1 gave the names"}},
 		{name: "--interval on a sample index", in: rows(20, 0, 1, "%.0f"), opt: Options{Interval_s: 1e-8},
 			interval: 1e-8, n: 20, words: []string{"counts samples"}},
 		{name: "a sample index and no interval", in: rows(20, 0, 1, "%.0f"),
