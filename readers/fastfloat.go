@@ -151,6 +151,10 @@ func slowFloat(b []byte, dec byte) (float64, bool) {
 			return 0, false
 		case c == '_' || c == 'x' || c == 'X' || c == 'p' || c == 'P':
 			return 0, false
+		case c == ',' || c == ';' || c == ' ' || c == '\t':
+			// a line split under the wrong delimiter: refused before strconv, whose
+			// error allocates, since the sniffer tries every dialect on every line
+			return 0, false
 		}
 		t[i] = c
 	}

@@ -15,11 +15,14 @@ import (
 // Options collect what a file may not say about itself; the zero value asks the
 // readers to find everything in the content.
 type Options struct {
-	Interval_s float64  // sample interval when the file has none
-	TimeColumn string   // "auto" (default), "first" or "none"
-	Raw        *RawSpec // describes a binary capture; ReadFile also finds a sidecar
-	Names      []string // channel names for formats that carry none
-	SizeHint   int64    // file size when known (ReadFile sets it); sizes buffers only
+	Interval_s float64 // sample interval; replaces the file's own, with a warning when they differ
+	// DefaultInterval_s is the sample interval for a file that states none (no time
+	// column, no interval in its header); a file's own time base wins over it.
+	DefaultInterval_s float64
+	TimeColumn        string   // "auto" (default), "first" or "none"
+	Raw               *RawSpec // describes a binary capture; ReadFile also finds a sidecar
+	Names             []string // channel names for formats that carry none
+	SizeHint          int64    // file size when known (ReadFile sets it); sizes buffers only
 }
 
 // Format names what Sniff found.
@@ -127,7 +130,11 @@ func readAll(r io.Reader, name string, opt Options) ([]*waveform.Record, error) 
 func readOne(br *bufio.Reader, head []byte, name string, opt Options, r io.Reader) (*waveform.Record, error) {
 	switch SniffFormat(head, name) {
 	case FormatNPY:
-		return ReadNPY(br, name, NPYOptions{Interval_s: opt.Interval_s, TimeColumn: opt.TimeColumn, Names: opt.Names, SizeHint: sizeHint(r, opt)})
+		iv := opt.Interval_s
+		if iv == 0 {
+			iv = opt.DefaultInterval_s
+		}
+		return ReadNPY(br, name, NPYOptions{Interval_s: iv, TimeColumn: opt.TimeColumn, Names: opt.Names, SizeHint: sizeHint(r, opt)})
 	case FormatRaw:
 		if opt.Raw == nil {
 			if len(head) == 0 {
@@ -141,7 +148,7 @@ func readOne(br *bufio.Reader, head []byte, name string, opt Options, r io.Reade
 		// The user said raw: believe them over a sniff that found only printable bytes.
 		return readRaw(br, name, *opt.Raw, sizeHint(r, opt))
 	}
-	return ReadText(br, name, TextOptions{Interval_s: opt.Interval_s, TimeColumn: opt.TimeColumn, SizeHint: sizeHint(r, opt)})
+	return ReadText(br, name, TextOptions{Interval_s: opt.Interval_s, DefaultInterval_s: opt.DefaultInterval_s, TimeColumn: opt.TimeColumn, SizeHint: sizeHint(r, opt)})
 }
 
 func sizeHint(r io.Reader, opt Options) int64 {

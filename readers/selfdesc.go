@@ -131,20 +131,12 @@ func note32(what string, f float32) (float64, string) {
 	return v, fmt.Sprintf("%s from the header's float32 %s", what, strconv.FormatFloat(v, 'g', -1, 64))
 }
 
-// unitWords are unit spellings instruments write that ParseUnit does not know.
-var unitWords = map[string]string{
-	"S": "s", "SEC": "s", "SECOND": "s", "SECONDS": "s", "VOLT": "V", "VOLTS": "V",
-	"AMP": "A", "AMPS": "A", "AMPERE": "A", "AMPERES": "A", "HERTZ": "Hz",
-}
-
 // instrumentUnit maps a unit string from a header to the SI symbol and factor.
 func instrumentUnit(u string) (string, float64, bool) {
 	u = strings.TrimSpace(strings.Trim(strings.TrimSpace(u), `"'`))
-	if si, f, ok := ParseUnit(u); ok {
+	// the header rules of the text reader: symbols, words ("Volt"), one-reading cases
+	if si, f, ok := headerUnit(u); ok && si != unitIndex {
 		return si, f, true
-	}
-	if si, ok := unitWords[strings.ToUpper(u)]; ok {
-		return si, 1, true
 	}
 	return "", 0, false
 }

@@ -155,7 +155,7 @@ func TestReadSelfDescribingWithoutSidecar(t *testing.T) {
 		require.Len(t, rec.Channels, 1)
 		assert.NotEmpty(t, rec.Layout)
 		assert.NotEmpty(t, rec.Notes)
-		assert.InEpsilon(t, peak*f.scale, maxAbs(rec.Channels[0].Samples), 1e-6, name)
+		assert.InEpsilon(t, peak*f.scale, peakAbs(rec.Channels[0].Samples), 1e-6, name)
 
 		// A raw description given as well is set aside, with a note.
 		spec := RawSpec{Sample: "int16", Interval_s: 1}
@@ -179,7 +179,7 @@ func floatsOf(codes []int64, k float64) []float32 {
 	return out
 }
 
-func maxAbs(x []float64) float64 {
+func peakAbs(x []float64) float64 {
 	m := 0.0
 	for _, v := range x {
 		m = math.Max(m, math.Abs(v))

@@ -42,27 +42,6 @@ func ParseUnit(u string) (si string, factor float64, ok bool) {
 	return "", 0, false
 }
 
-// SplitHeader splits a header cell such as "U [V]", "Voltage (kV)", "I/kA" or "t (us)"
-// into a name and a unit.
-func SplitHeader(cell string) (name, unit string) {
-	c := strings.TrimSpace(strings.Trim(strings.TrimSpace(cell), `"'`))
-	for _, br := range [][2]string{{"[", "]"}, {"(", ")"}} {
-		if j := strings.LastIndex(c, br[0]); j >= 0 && strings.HasSuffix(c, br[1]) {
-			return strings.TrimSpace(c[:j]), strings.TrimSpace(c[j+1 : len(c)-1])
-		}
-	}
-	// "I/kA": a quantity over its unit, as ISO 80000-1 writes axis labels. Only when
-	// the part after the slash is a known unit, so "V/m" alone stays a name.
-	if j := strings.LastIndex(c, "/"); j > 0 {
-		if _, _, ok := ParseUnit(c[j+1:]); ok && c[j+1:] != "" {
-			if _, _, whole := ParseUnit(c); !whole {
-				return strings.TrimSpace(c[:j]), strings.TrimSpace(c[j+1:])
-			}
-		}
-	}
-	return c, ""
-}
-
 // ParseQuantity reads a number with an optional unit, "2 ns", "1e-9s", "300kV",
 // "100 MS/s", into SI. A rate in S/s or Sa/s is returned as a rate, unit "S/s".
 func ParseQuantity(s string) (float64, string, error) {
@@ -98,7 +77,11 @@ func ParseQuantity(s string) (float64, string, error) {
 	}
 	si, f, ok := ParseUnit(u)
 	if !ok {
-		return 0, "", fmt.Errorf("unknown unit %q in %q", u, s)
+		r, err := foldedUnit(u)
+		if err != nil {
+			return 0, "", fmt.Errorf("%v in %q", err, s)
+		}
+		si, f = r.si, r.factor
 	}
 	return v * f, si, nil
 }

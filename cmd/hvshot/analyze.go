@@ -211,8 +211,8 @@ func configure(o *analyzeOpts, inputs []string) (*shot.Config, readers.Options, 
 			return nil, rd, err
 		}
 		cfg = shot.FromSetup(s)
-		if s.Read.Interval.Set && rd.Interval_s == 0 {
-			rd.Interval_s = s.Read.Interval.V
+		if s.Read.Interval.Set {
+			rd.DefaultInterval_s = s.Read.Interval.V // for files that state none; --interval replaces a file's own
 		}
 		if s.Read.TimeColumn != "" && rd.TimeColumn == "auto" {
 			rd.TimeColumn = s.Read.TimeColumn

@@ -221,7 +221,7 @@ type readFlags struct {
 }
 
 func (r *readFlags) add(fs *flag.FlagSet) {
-	fs.StringVar(&r.interval, "interval", "", "sample interval for files that do not state one, e.g. 2ns (`TIME`)")
+	fs.StringVar(&r.interval, "interval", "", "sample interval, e.g. 2ns: for files that state none, and in place of what a file states, with a warning (`TIME`)")
 	fs.StringVar(&r.timeColumn, "time-column", "auto", "whether the first column is time: auto, first or none (`WHICH`)")
 	fs.StringVar(&r.rawSample, "raw-sample", "", "read files as raw binary of this sample `TYPE` (int16, float32, ...) when no .hvraw sidecar describes them")
 	fs.IntVar(&r.rawChans, "raw-channels", 1, "interleaved channels in raw binary (`N`)")
