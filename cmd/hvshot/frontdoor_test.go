@@ -177,3 +177,38 @@ func TestPlotWriteFailureIsReported(t *testing.T) {
 	html := string(mustRead(t, filepath.Join(out, "report.html")))
 	assert.Contains(t, html, "plot-failed")
 }
+
+// Whole captures written by pandas the way lab scripts write them
+// (testdata/readers/make_lab_scripts.py): engineering units in snake_case names with
+// pandas' index column, and SI names on a divider's low side. No flag but the ratio is
+// needed, and the parameters are the SciPy reference's (impulse_refs.json,
+// "handbook-lightning": T1 1.2023 us, T2 49.989 us) within the self-check's 0.5 %.
+func TestLabScriptCaptures(t *testing.T) {
+	var refs struct {
+		Shapes map[string]map[string]float64 `json:"shapes"`
+	}
+	require.NoError(t, json.Unmarshal(mustRead(t, "../../testdata/reference/impulse_refs.json"), &refs))
+	hb := refs.Shapes["handbook-lightning"]
+	for _, c := range []struct {
+		file string
+		args []string
+	}{
+		{"lab_pandas_index_t_us_u_kv.csv", nil},
+		{"lab_pandas_time_s_voltage_v_lowside.csv", []string{"--ratio", "1000", "--peak", "300kV"}},
+	} {
+		args := append([]string{"analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(t.TempDir(), "o")}, c.args...)
+		code, out, stderr := runCmd(append(args, filepath.Join("../../testdata/readers", c.file))...)
+		require.Equal(t, exitOK, code, c.file+": "+stderr+out)
+		var row map[string]any
+		require.NoError(t, json.Unmarshal([]byte(out), &row), c.file)
+		assert.Equal(t, "lightning-full", row["shape"], c.file)
+		assert.InEpsilon(t, 300e3, row["test_voltage_v"], 0.001, c.file)
+		assert.InEpsilon(t, hb["front_time_s"], row["front_time_s"], 0.005, c.file)
+		assert.InEpsilon(t, hb["time_to_half_s"], row["time_to_half_s"], 0.005, c.file)
+	}
+	// the low side without the ratio: not a silent pass, and a hint
+	code, out, _ := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(t.TempDir(), "o"), "--peak", "300kV",
+		"../../testdata/readers/lab_pandas_time_s_voltage_v_lowside.csv")
+	assert.Equal(t, exitOutOfTol, code)
+	assert.Contains(t, out, "ratio-missing")
+}
