@@ -29,8 +29,9 @@ type RawSpec struct {
 	Interval_s  float64
 	Start_s     float64
 	HeaderBytes int64   // bytes to skip before the first sample
-	RangeV      float64 // full-scale magnitude in SI after scaling, 0 when unknown
+	Range_v     float64 // full-scale magnitude in SI after scaling, 0 when unknown
 	ADCBits     int
+	Note        string // free text kept as the record's "note" (synth marks its captures here)
 }
 
 // ParseSidecar reads a raw description: "key = value" lines, '#' comments, keys as in
@@ -138,8 +139,10 @@ func ParseSidecar(r io.Reader, file string) (RawSpec, error) {
 				}
 				spec.Start_s = v
 			case "range":
-				spec.RangeV = v
+				spec.Range_v = v
 			}
+		case "note":
+			spec.Note = val
 		case "header_bytes", "adc_bits":
 			n, err := strconv.ParseInt(val, 10, 64)
 			if err != nil || n < 0 {
@@ -264,6 +267,9 @@ func readRaw(r io.Reader, file string, spec RawSpec, sizeHint int64) (*waveform.
 	}
 	isFloat := st.name == "float32" || st.name == "float64"
 	rec := &waveform.Record{Source: file, Format: "raw " + spec.Sample, Start_s: spec.Start_s, Interval_s: spec.Interval_s, Meta: map[string]string{}}
+	if spec.Note != "" {
+		rec.Meta["note"] = spec.Note
+	}
 	for c := 0; c < nc; c++ {
 		s := chans[c]
 		ch := waveform.Channel{Name: fmt.Sprintf("CH%d", c+1), Samples: s, ADCBits: spec.ADCBits}
@@ -282,8 +288,8 @@ func readRaw(r io.Reader, file string, spec RawSpec, sizeHint int64) (*waveform.
 				}
 			}
 		}
-		if spec.RangeV > 0 {
-			ch.HasRange, ch.RangeMin, ch.RangeMax = true, -spec.RangeV, spec.RangeV
+		if spec.Range_v > 0 {
+			ch.HasRange, ch.RangeMin, ch.RangeMax = true, -spec.Range_v, spec.Range_v
 		}
 		// Integer codes times a gain stay finite unless the largest code overflows; only
 		// floats and such gains need a look.

@@ -86,6 +86,10 @@ func WriteNPY(w io.Writer, rec *waveform.Record) error {
 // it back; write that with WriteSidecar.
 func WriteRaw(w io.Writer, rec *waveform.Record) (RawSpec, error) {
 	spec := RawSpec{Sample: "int16", Channels: len(rec.Channels), Interval_s: rec.Interval_s, Start_s: rec.Start_s}
+	// a synthetic record stays marked as one: raw binary has no other place for it
+	if v, ok := rec.Meta["synthetic"]; ok {
+		spec.Note = "synthetic: " + v
+	}
 	for _, c := range rec.Channels {
 		full := 0.0
 		if c.HasRange {
@@ -134,6 +138,9 @@ func WriteSidecar(w io.Writer, s RawSpec) error {
 		strconv.FormatFloat(s.Interval_s, 'g', -1, 64), strconv.FormatFloat(s.Start_s, 'g', -1, 64))
 	if err == nil && s.HeaderBytes > 0 {
 		_, err = fmt.Fprintf(w, "header_bytes = %d\n", s.HeaderBytes)
+	}
+	if err == nil && s.Note != "" {
+		_, err = fmt.Fprintf(w, "note = %s\n", strings.ReplaceAll(s.Note, "\n", " "))
 	}
 	return err
 }

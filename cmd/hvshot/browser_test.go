@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"image/png"
 	"os"
 	"os/exec"
@@ -46,22 +47,26 @@ func TestReportInBrowser(t *testing.T) {
 	probe := `<script>window.addEventListener('load',function(){
 function vis(el){if(!el)return false;var r=el.getBoundingClientRect();var s=getComputedStyle(el);return r.width>50&&r.height>20&&s.visibility!=='hidden'&&s.display!=='none';}
 var svg=document.querySelector('.plot svg');
-document.title='PROBE summary='+vis(document.getElementById('summary-table'))+' plot='+vis(svg)+' safety='+vis(document.getElementById('safety'));
+var wide=document.documentElement.scrollWidth>window.innerWidth;
+document.title='PROBE summary='+vis(document.getElementById('summary-table'))+' plot='+vis(svg)+' safety='+vis(document.getElementById('safety'))+' overflow='+wide;
 });</script>`
 	probed := filepath.Join(dir, "report", "probe.html")
 	require.NoError(t, os.WriteFile(probed, bytes.Replace(html, []byte("</body>"), []byte(probe+"</body>"), 1), 0o644))
 	ctx, cancel := context.WithTimeout(context.Background(), 90*time.Second)
 	defer cancel()
-	args := append(chromiumArgs(filepath.Join(dir, "profile")), "--virtual-time-budget=5000", "--dump-dom", "file://"+probed)
-	dom, err := exec.CommandContext(ctx, bin, args...).Output()
-	require.NoError(t, err)
-	m := regexp.MustCompile(`<title>PROBE ([^<]*)</title>`).FindSubmatch(dom)
-	require.NotNil(t, m, "probe ran")
-	assert.Equal(t, "summary=true plot=true safety=true", string(m[1]))
+	// at a portrait page's width and at a desktop's, nothing wider than the window
+	for _, width := range []string{"800", "1400"} {
+		args := append(chromiumArgs(filepath.Join(dir, "profile"+width)), "--window-size="+width+",1200", "--virtual-time-budget=5000", "--dump-dom", "file://"+probed)
+		dom, err := exec.CommandContext(ctx, bin, args...).Output()
+		require.NoError(t, err)
+		m := regexp.MustCompile(`<title>PROBE ([^<]*)</title>`).FindSubmatch(dom)
+		require.NotNil(t, m, "probe ran")
+		assert.Equal(t, "summary=true plot=true safety=true overflow=false", string(m[1]), "at %s px", width)
+	}
 
 	shot := filepath.Join(dir, "report.png")
-	args = append(chromiumArgs(filepath.Join(dir, "profile2")), "--window-size=1280,1600", "--screenshot="+shot, "file://"+report)
-	_, err = exec.CommandContext(ctx, bin, args...).CombinedOutput()
+	args := append(chromiumArgs(filepath.Join(dir, "profile2")), "--window-size=1280,1600", "--screenshot="+shot, "file://"+report)
+	_, err := exec.CommandContext(ctx, bin, args...).CombinedOutput()
 	require.NoError(t, err)
 	f, err := os.Open(shot)
 	require.NoError(t, err)
@@ -84,4 +89,51 @@ document.title='PROBE summary='+vis(document.getElementById('summary-table'))+' 
 		os.WriteFile(keep, mustRead(t, shot), 0o644)
 	}
 	assert.True(t, strings.Contains(string(html), "High voltage kills"))
+}
+
+// Printed (Chromium's print to PDF, read back with poppler's pdftotext), the report's
+// first page holds the header's facts and the synthetic-data warning, every page is
+// numbered, and no shot's block is split across pages: each block's heading and its
+// plot stand on one page.
+func TestReportPrints(t *testing.T) {
+	bin := chromium(t)
+	pdftotext, err := exec.LookPath("pdftotext")
+	if err != nil {
+		if os.Getenv("CI") != "" {
+			t.Fatal("pdftotext is required in CI (.ci/run installs poppler-utils)")
+		}
+		t.Skip("pdftotext not installed: apt-get install poppler-utils to run the print test")
+	}
+	dir := t.TempDir()
+	code, out, stderr := runCmd("demo", "--out", dir)
+	require.Equal(t, exitOK, code, out+stderr)
+	ctx, cancel := context.WithTimeout(context.Background(), 90*time.Second)
+	defer cancel()
+	pdf := filepath.Join(dir, "report.pdf")
+	args := append(chromiumArgs(filepath.Join(dir, "profile")), "--no-pdf-header-footer", "--print-to-pdf="+pdf, "file://"+filepath.Join(dir, "report", "report.html"))
+	_, err = exec.CommandContext(ctx, bin, args...).CombinedOutput()
+	require.NoError(t, err)
+	text, err := exec.CommandContext(ctx, pdftotext, pdf, "-").Output()
+	require.NoError(t, err)
+	pages := strings.Split(string(text), "\f")
+	require.Greater(t, len(pages), 3)
+	for _, want := range []string{"SYNTHETIC DATA", "Outcome", "Nominal", "Tolerances", "1.2/50 µs", "page 1 of"} {
+		assert.Contains(t, pages[0], want, "page 1")
+	}
+	heading := regexp.MustCompile(`(\S+) · (\S+): (PASS|FAIL|ERROR|MEASURED)`)
+	blocks := 0
+	for i, pg := range pages {
+		if strings.TrimSpace(pg) == "" {
+			continue
+		}
+		assert.Contains(t, pg, fmt.Sprintf("page %d of", i+1))
+		for _, m := range heading.FindAllStringSubmatch(pg, -1) {
+			blocks++
+			if m[3] == "ERROR" {
+				continue // no plot
+			}
+			assert.Contains(t, pg, m[1]+" "+m[2], "the plot of %s %s on the page of its heading (page %d)", m[1], m[2], i+1)
+		}
+	}
+	assert.Equal(t, 17, blocks, "every row's block is printed")
 }

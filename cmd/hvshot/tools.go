@@ -164,7 +164,6 @@ func writeCapture(path, format string, rec *waveform.Record) error {
 	spec, err := readers.Encode(&b, format, rec)
 	if err == nil && spec != nil {
 		readers.WriteSidecar(&side, *spec)
-		side.WriteString("# synthetic capture made by hvshot synth\n")
 		err = folder.WriteFile(path+readers.SidecarSuffix, side.Bytes())
 	}
 	if err == nil {

@@ -33,44 +33,77 @@ type Page struct {
 	Plot func(rel string) ([]byte, error)
 }
 
+// The page: a header of facts, the series summary, a table of the shots (each row's
+// reasons on a line of their own below it, so the table fits a portrait page), then a
+// block per shot. Print: A4 portrait, the series and page numbers in the margins, no
+// shot block split across pages.
 var reportTmpl = template.Must(template.New("report").Parse(`<!DOCTYPE html>
 <html lang="en"><head><meta charset="utf-8">
-<title>hvshot report{{if .Sum.Series}}: {{.Sum.Series}}{{end}}</title>
+<meta name="viewport" content="width=device-width, initial-scale=1">
+<title>{{.Title}}</title>
 <style>
-body{font-family:system-ui,sans-serif;margin:1.5em auto;max-width:70em;color:#222;padding:0 1em}
-h1{font-size:1.5em}h2{font-size:1.2em;margin-top:2em;border-bottom:1px solid #ccc}
-table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:.2em .5em;text-align:right;font-size:.9em}
-th{background:#f2f2f2}td.l,th.l{text-align:left}
-.pass{color:#176117;font-weight:bold}.fail{color:#a00;font-weight:bold}.error{color:#7a4b00;font-weight:bold}
-.shot{border:1px solid #ddd;padding:.5em 1em;margin:1em 0;border-radius:4px}
-.shot img,.shot svg{max-width:100%;height:auto}
-.warn{color:#7a4b00}.safety{background:#fff4e5;border:2px solid #e0a040;padding:.8em 1em;margin-top:3em}
-pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.85em}
+:root{--pass:#176117;--fail:#a00000;--error:#7a4b00;--measured:#33506e}
+*{box-sizing:border-box}
+body{font-family:"Liberation Sans",Arial,Helvetica,system-ui,sans-serif;margin:1.5em auto;max-width:62em;color:#222;padding:0 1em;font-size:15px;line-height:1.35}
+h1{font-size:1.45em;margin:.2em 0}h2{font-size:1.15em;margin-top:1.8em;border-bottom:1px solid #bbb}h3{font-size:1.02em;margin:.2em 0}
+table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:.15em .4em;text-align:right;font-size:.88em;vertical-align:top}
+th{background:#f2f2f2;font-weight:600}td.l,th.l{text-align:left}
+.num{white-space:nowrap;font-variant-numeric:tabular-nums}
+table.shots{width:100%}table.shots td.shot{overflow-wrap:break-word}table.shots td.shape{white-space:nowrap}
+table.shots tr.first td{border-top:2px solid #999}table.shots tr.why td{text-align:left;border-top:none;font-size:.82em;color:#444;overflow-wrap:anywhere}
+.pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}
+dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:.6em 0}dl.facts dt{font-weight:600}dl.facts dd{margin:0;overflow-wrap:anywhere}
+.synthetic{background:#fde8e8;border:2px solid #a00000;color:#a00000;font-weight:bold;padding:.5em .8em;margin:.8em 0}
+.shot{border:1px solid #ddd;padding:.4em .8em;margin:1em 0;border-radius:4px}
+.params{display:flex;flex-wrap:wrap;gap:.2em .4em;margin:.4em 0;padding:0}.params div{border:1px solid #ddd;border-radius:3px;padding:.05em .4em;font-size:.85em;white-space:nowrap}.params dt{display:inline;color:#555}.params dd{display:inline;margin:0 0 0 .3em;font-variant-numeric:tabular-nums}
+.msg{overflow-wrap:anywhere}
+.plot svg,.plot img{width:100%;height:auto;display:block}
+.plot svg text{font-family:"Liberation Sans",Arial,Helvetica,sans-serif!important}
+.warn{color:var(--error);font-size:.9em}.safety{background:#fff4e5;border:2px solid #e0a040;padding:.6em 1em;margin-top:2.5em}
+pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre-wrap}
+@page{size:A4 portrait;margin:16mm 12mm 16mm 12mm;
+ @top-left{content:{{.TitleCSS}};font:8pt "Liberation Sans",Arial,sans-serif;color:#555}
+ @bottom-right{content:"page " counter(page) " of " counter(pages);font:8pt "Liberation Sans",Arial,sans-serif;color:#555}}
+@media print{body{max-width:none;margin:0;padding:0;font-size:10pt}.shot{break-inside:avoid}h2,h3{break-after:avoid}
+ tr{break-inside:avoid}a{color:inherit;text-decoration:none}.safety{break-inside:avoid}}
 </style></head><body>
-<h1>hvshot report{{if .Sum.Series}}: {{.Sum.Series}}{{end}}</h1>
-<p>Made {{.When}} by hvshot {{.Version}}. Nominal: {{.Nominal}}. Overshoot denominator: {{.Over}}.</p>
+<header>
+<h1>{{.Title}}</h1>
+{{if .Synthetic}}<p class="synthetic" id="synthetic">SYNTHETIC DATA: {{.Synthetic}} made by hvshot's synthesiser or demo, not measured. This is a rehearsal, not a test record.</p>{{end}}
+<dl class="facts" id="facts">
+<dt>Outcome</dt><dd class="{{.OutcomeClass}}">{{.Outcome}}</dd>
+<dt>Nominal</dt><dd>{{.Nominal}}</dd>
+<dt>Tolerances</dt><dd>{{.Tolerances}}</dd>
+<dt>Overshoot</dt><dd>relative to {{.Over}}</dd>
+<dt>Setup</dt><dd>{{if .SetupPath}}{{.SetupPath}}{{else}}none: every channel a divider channel in volts unless a role was given{{end}}</dd>
+<dt>Made</dt><dd>{{.When}} by hvshot {{.Version}}</dd>
+</dl>
+</header>
 <h2 id="summary">Series summary</h2>
 <table id="summary-table">
 <tr><th class="l">files</th><td>{{.Sum.Files}}</td></tr>
+{{if ne .Sum.Shots .Sum.Files}}<tr><th class="l">shots</th><td>{{.Sum.Shots}}</td></tr>{{end}}
 <tr><th class="l">channel rows</th><td>{{.Sum.Rows}}</td></tr>
 <tr><th class="l">pass</th><td class="pass">{{.Sum.Pass}}</td></tr>
 <tr><th class="l">fail</th><td class="fail">{{.Sum.Fail}}</td></tr>
 <tr><th class="l">error</th><td class="error">{{.Sum.Errors}}</td></tr>
+{{if .Sum.Measured}}<tr><th class="l">measured (no tolerance applies)</th><td class="measured">{{.Sum.Measured}}</td></tr>{{end}}
 </table>
 {{if .Sum.Interrupted}}<p class="fail">The run was interrupted: only the shots finished before the stop are here.</p>{{end}}
-<table id="stats-table"><tr><th class="l">parameter</th><th>n</th><th>mean</th><th>sd</th><th>min</th><th>max</th><th class="l">unit</th></tr>
-{{range .Stats}}<tr>{{range $i, $c := .}}<td{{if or (eq $i 0) (eq $i 6)}} class="l"{{end}}>{{$c}}</td>{{end}}</tr>
+{{if .Stats}}<table id="stats-table"><tr><th class="l">parameter</th><th>n</th><th>mean</th><th>sd</th><th>min</th><th>max</th><th class="l">unit</th></tr>
+{{range .Stats}}<tr>{{range $i, $c := .}}<td class="{{if or (eq $i 0) (eq $i 6)}}l{{else}}num{{end}}">{{$c}}</td>{{end}}</tr>
+{{end}}</table>{{end}}
+<h2>Shots, failing and unreadable first</h2>
+<table class="shots" id="shots-table"><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr>
+{{range .Rows}}<tr{{if .First}} class="first"{{end}}><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
+{{if .Why}}<tr class="why"><td></td><td colspan="{{$.Span}}" class="{{.R.Verdict}}-why">{{.Why}}</td></tr>{{end}}
 {{end}}</table>
-<h2>Shots (failing and unreadable first)</h2>
-<table id="shots-table"><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th>{{range .Heads}}<th>{{.}}</th>{{end}}<th class="l">verdict</th><th class="l">why</th></tr>
-{{range .Rows}}<tr><td class="l"><a href="#{{.Anchor}}">{{.R.File}}</a></td><td class="l">{{.R.Channel}}</td><td class="l">{{.R.Shape}}</td>{{range .Cells}}<td>{{.}}</td>{{end}}<td class="l {{.R.Verdict}}">{{.R.Verdict.Word}}</td><td class="l">{{.Why}}</td></tr>
-{{end}}</table>
-{{range .Rows}}<div class="shot" id="{{.Anchor}}"><h3>{{.R.File}} / {{.R.Channel}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
-{{if .R.Shape}}<p>{{.R.Shape}}, {{.R.Polarity}}</p>{{end}}
-{{if .Why}}<p class="{{.R.Verdict}}">{{.Why}}</p>{{end}}
-<table><tr>{{range .Params}}<th>{{.K}}</th>{{end}}</tr><tr>{{range .Params}}<td>{{.V}}</td>{{end}}</tr></table>
-{{range .R.Warnings}}<p class="warn">warning {{.Code}}: {{.Text}}</p>{{end}}
-{{call $.Plot .R.Plot}}</div>
+{{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}} · {{.Channel}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
+{{if .Kind}}<p>{{.Kind}}</p>{{end}}
+{{if .Why}}<p class="{{.R.Verdict}} msg">{{.Why}}</p>{{end}}
+{{if .Params}}<dl class="params">{{range .Params}}<div><dt>{{.K}}</dt><dd>{{.V}}</dd></div>{{end}}</dl>{{end}}
+{{range .R.Warnings}}<p class="warn msg">warning {{.Code}}: {{.Text}}</p>{{end}}
+{{call $.Plot .R.Plot}}</section>
 {{end}}
 <h2>Setup used</h2>
 {{if .SetupText}}<p>{{.SetupPath}}</p><pre>{{.SetupText}}</pre>{{else}}<p>No setup file: every channel evaluated as a divider channel in volts unless a role was given, tolerances of IEC 60060-1:2010.</p>{{end}}
@@ -79,19 +112,23 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.85em}
 `))
 
 type htmlRow struct {
-	R      *shot.Row
-	Anchor string
-	Why    string
-	Cells  []string
-	Params []struct{ K, V string }
+	R       *shot.Row
+	First   bool // the first row of its shot
+	Anchor  string
+	Channel string
+	Kind    string // shape and polarity in words
+	Why     string
+	Cells   []string
+	Params  []struct{ K, V string }
 }
 
 // HTML writes the self-contained report: inline CSS, plots inlined (SVG as markup,
 // PNG as data), no network.
 func HTML(w io.Writer, p Page) error {
-	// Shots with failures and errors first, each shot's rows together.
+	// Shots with errors first, then failures, each shot's rows together.
 	rank := map[shot.Verdict]int{shot.Error: 0, shot.Fail: 1}
 	worst := map[string]int{}
+	synthetic := map[string]bool{}
 	for i := range p.Rows {
 		r := &p.Rows[i]
 		k, ok := rank[r.Verdict]
@@ -101,6 +138,9 @@ func HTML(w io.Writer, p Page) error {
 		if v, seen := worst[r.File]; !seen || k < v {
 			worst[r.File] = k
 		}
+		if r.Synthetic {
+			synthetic[r.File] = true
+		}
 	}
 	idx := make([]int, len(p.Rows))
 	for i := range idx {
@@ -108,25 +148,34 @@ func HTML(w io.Writer, p Page) error {
 	}
 	sort.SliceStable(idx, func(a, b int) bool { return worst[p.Rows[idx[a]].File] < worst[p.Rows[idx[b]].File] })
 	cols := consoleColumns()
-	var heads []string
+	type head struct{ Label, Unit string }
+	var heads []head
 	for _, c := range cols {
-		heads = append(heads, Header(c))
+		heads = append(heads, head{c.Label, strings.ReplaceAll(c.Screen, "us", "µs")})
 	}
 	var rows []htmlRow
 	k := 0
 	for n, i := range idx {
 		r := &p.Rows[i]
-		if n > 0 && r.File != p.Rows[idx[n-1]].File {
+		first := n == 0 || r.File != p.Rows[idx[n-1]].File
+		if first {
 			k = 0
 		}
-		x := htmlRow{R: r, Anchor: shot.Anchor(r.File, k), Why: Why(r)}
+		x := htmlRow{R: r, First: first, Anchor: shot.Anchor(r.File, k), Channel: r.Channel, Why: Why(r)}
 		k++
+		if x.Channel == "" {
+			x.Channel = "-"
+		}
+		x.Kind = strings.TrimSuffix(string(r.Shape)+", "+string(r.Polarity), ", ")
+		if r.Shape == "" {
+			x.Kind = string(r.Polarity)
+		}
 		for _, c := range cols {
 			x.Cells = append(x.Cells, Cell(r, c))
 		}
 		for _, c := range shot.Columns {
 			if v, ok := r.Value(c); ok {
-				x.Params = append(x.Params, struct{ K, V string }{Header(c), c.Format(v)})
+				x.Params = append(x.Params, struct{ K, V string }{c.Label, strings.TrimSpace(c.Format(v) + " " + strings.ReplaceAll(c.Screen, "us", "µs"))})
 			}
 		}
 		rows = append(rows, x)
@@ -134,21 +183,48 @@ func HTML(w io.Writer, p Page) error {
 	var stats [][]string
 	for _, st := range p.Summary.Stats {
 		mean, sd, lo, hi, unit := StatCells(st)
-		stats = append(stats, []string{st.Name, strconv.Itoa(st.N), mean, sd, lo, hi, unit})
+		stats = append(stats, []string{st.Name, strconv.Itoa(st.N), mean, sd, lo, hi, strings.ReplaceAll(unit, "us", "µs")})
 	}
 	cfg := p.Config
 	if cfg == nil {
 		cfg = shot.NewConfig()
 	}
-	nominal := "standard shape of the family found (1.2/50 or 250/2500)"
+	nominal := "the standard shape of the family found (1.2/50 or 250/2500 µs)"
 	if cfg.Nominal.Front_s > 0 {
-		nominal = cfg.Nominal.String() + " us"
+		nominal = cfg.Nominal.String() + " µs"
 	}
 	if cfg.Nominal.Chopped {
-		nominal += ", chopped"
+		nominal += ", chopped impulses intended"
 	}
 	if cfg.Nominal.Peak_v > 0 {
 		nominal += ", test voltage " + shot.FormatDigits(cfg.Nominal.Peak_v/1e3, 4, false) + " kV"
+	}
+	t := cfg.Tolerances
+	f := func(v float64) string { return strconv.FormatFloat(v, 'g', 4, 64) }
+	tolerances := "test voltage ±" + f(t.TestVoltage_pct) + " %; lightning T1 ±" + f(t.Front_pct) + " %, T2 ±" + f(t.Tail_pct) + " %, overshoot at most " + f(t.OvershootMax_pct) + " %; switching Tp ±" + f(t.TimeToPeak_pct) + " %, T2 ±" + f(t.SwitchingTail_pct) + " %"
+	s := p.Summary
+	outcome, class := "every shot evaluated and within tolerance", "pass"
+	switch {
+	case s.Errors > 0 && s.Fail > 0:
+		outcome, class = strconv.Itoa(s.Fail)+" channel rows out of tolerance, "+strconv.Itoa(s.Errors)+" not evaluated", "fail"
+	case s.Errors > 0:
+		outcome, class = strconv.Itoa(s.Errors)+" channel rows not evaluated; the others within tolerance", "error"
+	case s.Fail > 0:
+		outcome, class = strconv.Itoa(s.Fail)+" channel rows out of tolerance", "fail"
+	}
+	if s.Interrupted {
+		outcome += " (interrupted: not every shot is here)"
+	}
+	title := "hvshot report"
+	if s.Series != "" {
+		title += ": " + s.Series
+	}
+	syn := ""
+	if n := len(synthetic); n > 0 {
+		syn = strconv.Itoa(n) + " of " + strconv.Itoa(len(worst)) + " shots are synthetic,"
+		if n == len(worst) {
+			syn = "every shot is synthetic,"
+		}
 	}
 	plot := func(rel string) template.HTML {
 		if rel == "" || p.Plot == nil {
@@ -156,7 +232,7 @@ func HTML(w io.Writer, p Page) error {
 		}
 		b, err := p.Plot(rel)
 		if err != nil {
-			return template.HTML(`<p class="warn">plot ` + template.HTMLEscapeString(rel) + ` could not be read: ` + template.HTMLEscapeString(err.Error()) + `</p>`)
+			return template.HTML(`<p class="warn msg">plot ` + template.HTMLEscapeString(rel) + ` could not be read: ` + template.HTMLEscapeString(err.Error()) + `</p>`)
 		}
 		if strings.HasSuffix(rel, ".svg") {
 			s := string(b)
@@ -165,12 +241,16 @@ func HTML(w io.Writer, p Page) error {
 			}
 			return template.HTML(`<div class="plot">` + s + `</div>`)
 		}
-		return template.HTML(`<img class="plot" alt="plot of ` + template.HTMLEscapeString(rel) + `" src="data:image/png;base64,` + base64.StdEncoding.EncodeToString(b) + `">`)
+		return template.HTML(`<div class="plot"><img alt="plot of ` + template.HTMLEscapeString(rel) + `" src="data:image/png;base64,` + base64.StdEncoding.EncodeToString(b) + `"></div>`)
 	}
+	// The page margin's text, as a CSS string: html/template refuses text in a style
+	// sheet unless it is typed as CSS, so quote it here, escaping what could end it.
+	titleCSS := template.CSS(`"` + strings.NewReplacer(`\`, `\\`, `"`, `\"`, "\n", " ", "<", `\3c `, ">", `\3e `).Replace(title) + `"`)
 	data := map[string]any{
-		"Sum": p.Summary, "Rows": rows, "Heads": heads, "Stats": stats, "Version": p.Version, "When": p.Made.Format("2006-01-02 15:04"),
-		"Nominal": nominal, "Over": map[string]string{"extreme": "Ue (extreme value)", "base": "Ub (base curve maximum)"}[cfg.Settings.OvershootOver],
-		"Safety": Safety, "Plot": plot,
+		"Title": title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 3, "Stats": stats, "Version": p.Version,
+		"When": p.Made.Format("2006-01-02 15:04"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
+		"Over": map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
+		"Safety": Safety, "Plot": plot, "Synthetic": syn,
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path

@@ -5,8 +5,10 @@ import (
 	"image/color"
 	"io"
 	"math"
+	"strconv"
 
 	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -86,23 +88,87 @@ func max2(a, b int) int {
 	return b
 }
 
-// save draws the plots side by side in the format and writes them to w.
+// save draws the plots side by side in the format and writes them to w. Two panels
+// fill an A4 page's width; PNG is drawn at twice a screen's resolution, for print.
 func save(w io.Writer, format PlotFormat, ps ...*plot.Plot) error {
-	width, height := vg.Length(len(ps))*13*vg.Centimeter, 10*vg.Centimeter
+	width, height := vg.Length(len(ps))*12*vg.Centimeter, 8.5*vg.Centimeter
 	var c vg.CanvasWriterTo
 	if format == PNG {
-		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(110))}
+		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(192))}
 	} else {
 		c = vgsvg.New(width, height)
 	}
 	dc := draw.New(c)
-	tiles := draw.Tiles{Rows: 1, Cols: len(ps), PadX: vg.Millimeter * 4}
+	tiles := draw.Tiles{Rows: 1, Cols: len(ps), PadX: vg.Millimeter * 6}
 	canv := plot.Align([][]*plot.Plot{ps}, tiles, dc)
 	for i, p := range ps {
 		p.Draw(canv[0][i])
 	}
 	_, err := c.WriteTo(w)
 	return err
+}
+
+// sans is the plots' face, the report page's family (the report's stylesheet falls back
+// to its metric twins, Arial and Helvetica).
+var sans = font.Font{Typeface: "Liberation", Variant: "Sans"}
+
+// newPanel is a panel in the plots' style: sans-serif text legible at 100 % and in
+// print, a grid, and tick labels with one number of decimals per axis.
+func newPanel(title, ylabel string) *plot.Plot {
+	p := plot.New()
+	p.Title.Text = title
+	p.Title.TextStyle.Font = font.From(sans, 10)
+	p.X.Label.Text, p.Y.Label.Text = "time (µs)", ylabel
+	for _, a := range []*plot.Axis{&p.X, &p.Y} {
+		a.Label.TextStyle.Font = font.From(sans, 9.5)
+		a.Tick.Label.Font = font.From(sans, 9)
+		a.Tick.Marker = tidyTicks{}
+	}
+	p.Legend.TextStyle.Font = font.From(sans, 9.5)
+	p.Legend.Top = true
+	p.Add(plotter.NewGrid())
+	return p
+}
+
+// tidyTicks are gonum's default ticks, labelled with the fewest decimals that write
+// every labelled tick of the axis exactly, so one axis never mixes 0 and 0.50.
+type tidyTicks struct{}
+
+func (tidyTicks) Ticks(lo, hi float64) []plot.Tick {
+	ts := plot.DefaultTicks{}.Ticks(lo, hi)
+	dec := 0
+	for _, t := range ts {
+		if t.Label == "" {
+			continue
+		}
+		for dec < 6 {
+			if v, _ := strconv.ParseFloat(strconv.FormatFloat(t.Value, 'f', dec, 64), 64); math.Abs(v-t.Value) <= 1e-9*math.Max(1, math.Abs(t.Value)) {
+				break
+			}
+			dec++
+		}
+	}
+	for i := range ts {
+		if ts[i].Label != "" {
+			ts[i].Label = shot.FormatDigits(ts[i].Value, dec, true)
+		}
+	}
+	return ts
+}
+
+// addMarks draws points that define the parameters, in the legend when legend is set.
+func addMarks(p *plot.Plot, pts plotter.XYs, legend string) {
+	if len(pts) == 0 {
+		return
+	}
+	sc, _ := plotter.NewScatter(pts)
+	sc.GlyphStyle.Color = colMark
+	sc.GlyphStyle.Radius = vg.Points(2.5)
+	sc.GlyphStyle.Shape = draw.CircleGlyph{}
+	p.Add(sc)
+	if legend != "" {
+		p.Legend.Add(legend, sc)
+	}
 }
 
 var (
@@ -129,19 +195,56 @@ func line(xy plotter.XYs, c color.Color, width vg.Length, dashes ...vg.Length) q
 }
 
 // Plot draws a row's curves, titled with its shot and channel, and writes the plot in
-// format to w: a divider's front and whole impulse side by side, or a sensor's signal.
+// format to w: a divider's front and whole impulse side by side, or a sensor's event
+// and whole record, the peak marked on each.
 func Plot(w io.Writer, c *shot.Curves, title string, format PlotFormat) error {
 	if c.Impulse != nil {
 		return plotImpulse(w, c, title, format)
 	}
-	p := plot.New()
-	p.Title.Text = title
-	p.X.Label.Text = "time (us)"
+	y := c.Signal
+	n := len(y)
+	ip := 0
+	for i, v := range y {
+		if math.Abs(v) > math.Abs(y[ip]) {
+			ip = i
+		}
+	}
+	peak := y[ip]
+	// the event: from where the signal first passes 5 % of its peak to where it stays
+	// below 5 %, with a margin of half that span on each side (ours)
+	first, last := ip, ip
+	for i, v := range y {
+		if math.Abs(v) >= 0.05*math.Abs(peak) {
+			if i < first {
+				first = i
+			}
+			last = i
+		}
+	}
+	if first > ip {
+		first = ip
+	}
+	m := max(8, (last-first)/2)
+	i0, i1 := max(0, first-m), min(n, last+m+1)
 	scale, unit := 1e-3, "k"+c.Unit
-	p.Y.Label.Text = fmt.Sprintf("%s (%s)", c.Quantity, unit)
-	p.Add(plotter.NewGrid())
-	p.Add(line(decimate(c.Start_s, c.Interval_s, c.Signal, 1e6, scale, columns), colBase, vg.Points(1.2)))
-	return save(w, format, p)
+	at := func(i int) float64 { return c.Start_s + float64(i)*c.Interval_s }
+	panel := func(lo, hi int, heading string, legend bool) *plot.Plot {
+		p := newPanel(heading, fmt.Sprintf("%s (%s)", c.Quantity, unit))
+		l := line(decimate(at(lo), c.Interval_s, y[lo:hi], 1e6, scale, columns), colBase, vg.Points(1.1))
+		p.Add(l)
+		if legend {
+			p.Legend.Add(c.Quantity, l)
+		}
+		legendPeak := ""
+		if legend {
+			legendPeak = "peak"
+		}
+		addMarks(p, plotter.XYs{{X: at(ip) * 1e6, Y: peak * scale}}, legendPeak)
+		p.X.Min, p.X.Max = at(lo)*1e6, at(hi-1)*1e6
+		return p
+	}
+	note := fmt.Sprintf("peak %s %s at %s µs", shot.FormatDigits(peak*scale, 4, false), unit, strconv.FormatFloat(at(ip)*1e6, 'g', 4, 64))
+	return save(w, format, panel(i0, i1, title+"\nthe event", false), panel(0, n, note+"\nwhole record", true))
 }
 
 // plotImpulse draws the recorded, base and test voltage curves with the points that
@@ -170,11 +273,7 @@ func plotImpulse(w io.Writer, c *shot.Curves, title string, format PlotFormat) e
 		fullHi = math.Min(end, r.T50_s+0.6*(r.T50_s-o1))
 	}
 	build := func(lo, hi float64, legend bool, title string) *plot.Plot {
-		p := plot.New()
-		p.Title.Text = title
-		p.X.Label.Text = "time (us)"
-		p.Y.Label.Text = "voltage (kV, polarity made positive)"
-		p.Add(plotter.NewGrid())
+		p := newPanel(title, "voltage (kV, polarity made positive)")
 		i0 := max2(0, int((lo-r.Start_s)/r.Interval_s))
 		i1 := min(n, int((hi-r.Start_s)/r.Interval_s)+2)
 		t0 := r.Start_s + float64(i0)*r.Interval_s
@@ -223,29 +322,22 @@ func plotImpulse(w io.Writer, c *shot.Curves, title string, format PlotFormat) e
 				pts = append(pts, plotter.XY{X: m.t * ts, Y: m.v * vs})
 			}
 		}
-		if len(pts) > 0 {
-			sc, _ := plotter.NewScatter(pts)
-			sc.GlyphStyle.Color = colMark
-			sc.GlyphStyle.Radius = vg.Points(3)
-			sc.GlyphStyle.Shape = draw.CircleGlyph{}
-			p.Add(sc)
-			if legend {
-				p.Legend.Add("30/90/50 % points, O1, chop", sc)
-			}
+		legendMarks := ""
+		if legend {
+			legendMarks = "30/90/50 % points, O1, chop"
 		}
+		addMarks(p, pts, legendMarks)
 		p.X.Min, p.X.Max = lo*ts, hi*ts
-		p.Legend.Top = true
-		p.Legend.TextStyle.Font.Size = vg.Points(7)
 		return p
 	}
 	var note string
 	switch r.Shape {
 	case impulse.Switching:
-		note = fmt.Sprintf("Ut %.1f kV  Tp %.0f us  T2 %.0f us", r.TestVoltage_v*vs, r.TimeToPeak_s*ts, r.TimeToHalf_s*ts)
+		note = fmt.Sprintf("Ut %.1f kV  Tp %.0f µs  T2 %.0f µs", r.TestVoltage_v*vs, r.TimeToPeak_s*ts, r.TimeToHalf_s*ts)
 	case impulse.LightningChopped:
-		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f us  Tc %.3f us", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.ChopTime_s*ts)
+		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f µs  Tc %.3f µs", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.ChopTime_s*ts)
 	default:
-		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f us  T2 %.2f us  overshoot %.1f %%", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.TimeToHalf_s*ts, r.Overshoot_pct)
+		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f µs  T2 %.2f µs  β' %s %%", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.TimeToHalf_s*ts, shot.FormatDigits(r.Overshoot_pct, 1, true))
 	}
 	left := build(frontLo, frontHi, false, fmt.Sprintf("%s  (%s)\nfront", title, r.Shape))
 	right := build(r.Start_s, fullHi, true, note+"\nwhole impulse")

@@ -99,11 +99,17 @@ func StatCells(s shot.Stat) (mean, sd, lo, hi, unit string) {
 		f := func(v float64) string { return shot.FormatDigits(v, 4, false) }
 		return f(s.Mean), f(s.SD), f(s.Min), f(s.Max), s.Unit
 	}
+	mean = c.Format(s.Mean)
+	// the spread to the mean's last digit: no 6.14e-05 beside a mean of 18.00
+	dec := 0
+	if i := strings.IndexByte(mean, '.'); i >= 0 && !strings.ContainsAny(mean, "e") {
+		dec = len(mean) - i - 1
+	}
 	sd = "-"
 	if s.N > 1 {
-		sd = shot.FormatDigits(s.SD*c.Scale, 3, false)
+		sd = shot.FormatDigits(s.SD*c.Scale, dec, true)
 	}
-	return c.Format(s.Mean), sd, c.Format(s.Min), c.Format(s.Max), c.Screen
+	return mean, sd, c.Format(s.Min), c.Format(s.Max), c.Screen
 }
 
 // Summary writes the series summary: counts, then the statistics.
@@ -117,7 +123,11 @@ func Summary(w io.Writer, s shot.Summary) {
 	if s.Shots != s.Files {
 		files += " (" + plural(s.Shots, "shot") + ")"
 	}
-	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error\n", files, plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors)
+	measured := ""
+	if s.Measured > 0 {
+		measured = fmt.Sprintf(", %d measured (no tolerance applies)", s.Measured)
+	}
+	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error%s\n", files, plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors, measured)
 	if s.Interrupted {
 		fmt.Fprintln(w, "  interrupted: the rows above are the files finished before the stop")
 	}

@@ -116,7 +116,7 @@ var (
 		Stat: "peak field", Doc: "antenna: the field's peak", value: fromField(func(r *probe.FieldResult) float64 { return r.Peak_v_per_m })}
 	ColEfficiency = &Column{Key: "efficiency", Kind: Number, Label: "efficiency", Scale: 1, Digits: 3, Stat: "generator efficiency",
 		Doc: "Ut / (stages x charging voltage)", value: func(s *sources) float64 { return s.efficiency }}
-	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail` or `error`",
+	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `error`, or `measured` for a channel no tolerance applies to (coil, antenna)",
 		text: func(r *Row) string { return string(r.Verdict) }}
 	ColFailures = &Column{Key: "failures", Kind: List, always: true, Label: "failures",
 		Doc:  "names of the parameters out of tolerance (`test_voltage`, `front_time`, `time_to_half`, `overshoot`, `time_to_peak`, `shape`); CSV: joined by `;`",
@@ -190,7 +190,9 @@ var Columns = []*Column{
 			return s.droop_s
 		}},
 	{Key: "droop_tau_estimated", Kind: Flag, Label: "droop estimated", Doc: "`true` when the droop time constant was estimated from the record",
-		text: func(r *Row) string { return map[bool]string{true: "true"}[r.DroopEstimated] }},
+		text: func(r *Row) string { return flag(r.DroopEstimated) }},
+	{Key: "synthetic", Kind: Flag, Label: "synthetic", Doc: "`true` when the capture says it is synthetic (made by `hvshot synth` or the demo), not a measurement",
+		text: func(r *Row) string { return flag(r.Synthetic) }},
 	ColVerdict, ColFailures, ColWarnings, ColError,
 }
 
@@ -198,6 +200,13 @@ func init() {
 	for i, c := range Columns {
 		c.index = i
 	}
+}
+
+func flag(b bool) string {
+	if b {
+		return "true"
+	}
+	return ""
 }
 
 // Warning is a remark on the measurement: a stable short code and words.
@@ -215,6 +224,7 @@ type Row struct {
 	Shape          impulse.Shape
 	Polarity       Polarity
 	DroopEstimated bool
+	Synthetic      bool // the capture says it is synthetic: a rehearsal, not a test record
 	Verdict        Verdict
 	Failures       []impulse.Failure
 	Warnings       []Warning

@@ -34,9 +34,10 @@ func (r *Role) UnmarshalText(b []byte) error {
 type Verdict string
 
 const (
-	Pass  Verdict = "pass"  // evaluated, and within every tolerance that applies
-	Fail  Verdict = "fail"  // evaluated, and some parameter out of tolerance
-	Error Verdict = "error" // not read or not evaluated; the row's error says why
+	Pass     Verdict = "pass"     // evaluated, and within every tolerance that applies
+	Fail     Verdict = "fail"     // evaluated, and some parameter out of tolerance
+	Error    Verdict = "error"    // not read or not evaluated; the row's error says why
+	Measured Verdict = "measured" // evaluated, and no tolerance applies (a coil or antenna channel)
 )
 
 // Word is the verdict as screens show it.
@@ -46,6 +47,8 @@ func (v Verdict) Word() string {
 		return "PASS"
 	case Fail:
 		return "FAIL"
+	case Measured:
+		return "MEASURED"
 	}
 	return "ERROR"
 }

@@ -44,6 +44,14 @@ func (s *Shot) PlotsLost() bool {
 	return false
 }
 
+// Synthetic reports whether a record says it is synthetic: hvshot's own writers mark
+// every synthetic capture ("synthetic" in a text preamble, "note = synthetic: ..." in a
+// raw description).
+func Synthetic(rec *waveform.Record) bool {
+	_, marked := rec.Meta["synthetic"]
+	return marked || strings.HasPrefix(rec.Meta["note"], "synthetic")
+}
+
 // Failed is the shot of a file that could not be read: one error row naming it.
 func Failed(id string, err error) *Shot {
 	msg := err.Error()
@@ -83,7 +91,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	if cs.Name != "" {
 		label = cs.Name
 	}
-	row := Row{File: id, Channel: label, Role: cs.Role}
+	row := Row{File: id, Channel: label, Role: cs.Role, Synthetic: Synthetic(rec)}
 	src := newSources()
 	fail := func(err error) (Row, *Curves) {
 		row.Verdict, row.Error = Error, fmt.Sprintf("%s: channel %s: %v", id, label, err)
@@ -158,7 +166,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 			c = &Curves{Signal: res.Field, Quantity: "field", Unit: "V/m"}
 		}
 		c.Start_s, c.Interval_s = t0, dt
-		row.Verdict = Pass
+		row.Verdict = Measured
 		row.fill(src)
 		return row, c
 	}

@@ -30,6 +30,7 @@ type Summary struct {
 	Pass        int    `json:"pass"`
 	Fail        int    `json:"fail"`
 	Errors      int    `json:"error"`
+	Measured    int    `json:"measured"` // rows with no tolerance to judge (coil, antenna)
 	Stats       []Stat `json:"stats"`
 	Interrupted bool   `json:"interrupted,omitempty"`
 }
@@ -40,6 +41,7 @@ type Series struct {
 	name               string
 	files, shots, rows int
 	pass, fail, errors int
+	measured           int
 	acc                []welford // by column index
 }
 
@@ -87,6 +89,8 @@ func (s *Series) add(sh *Shot) {
 			s.pass++
 		case Fail:
 			s.fail++
+		case Measured:
+			s.measured++
 		default:
 			s.errors++
 		}
@@ -100,7 +104,7 @@ func (s *Series) add(sh *Shot) {
 
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
-	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Stats: []Stat{}}
+	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Stats: []Stat{}}
 	// in the per-shot tables' order, then the rest in the column table's
 	cols := slices.Clone(Columns)
 	rank := func(c *Column) int {

@@ -49,6 +49,8 @@ func TestEvaluateReturnsCurvesAndTouchesNoDisk(t *testing.T) {
 	assert.Len(t, s.Curves[0].Impulse.TestVoltage, 12001)
 	assert.Equal(t, impulse.StandardLightning.Front_s, s.Curves[0].Nominal.Front_s, "judged against the standard shape")
 	assert.Equal(t, shot.Coil, coil.Role)
+	assert.Equal(t, shot.Measured, coil.Verdict, "no tolerance applies to a coil: measured, not pass")
+	assert.True(t, div.Synthetic, "synth marks its records")
 	v, ok := coil.Value(shot.ColPeakCurrent)
 	require.True(t, ok)
 	assert.InEpsilon(t, 2e3, v, 0.01, "the simulated current's peak")
@@ -86,7 +88,7 @@ func TestPlanningWithoutSetup(t *testing.T) {
 	s = shot.Evaluate(record(t, 1.2, 2), "a.csv", cfg)
 	require.Len(t, s.Rows, 2)
 	assert.Equal(t, shot.Coil, s.Rows[1].Role)
-	assert.Equal(t, shot.Pass, s.Rows[1].Verdict, s.Rows[1].Error)
+	assert.Equal(t, shot.Measured, s.Rows[1].Verdict, s.Rows[1].Error)
 }
 
 // A divider ratio from the configuration scales a low-side capture; without one, a

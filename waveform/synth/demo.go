@@ -138,7 +138,6 @@ func DemoFiles() ([]DemoFile, error) {
 		if spec != nil {
 			var side bytes.Buffer
 			readers.WriteSidecar(&side, *spec)
-			side.WriteString("# invented demo capture, not a measurement\n")
 			files = append(files, DemoFile{d.File + readers.SidecarSuffix, side.Bytes()})
 		}
 	}
