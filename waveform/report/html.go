@@ -249,7 +249,7 @@ func HTML(w io.Writer, p Page) error {
 	data := map[string]any{
 		"Title": title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 3, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
-		"Over": map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
+		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn,
 	}
 	if cfg.Setup != nil {
