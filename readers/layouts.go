@@ -290,6 +290,9 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 		}
 		return nil, fileErr(file, ErrNoData, "only blank or comment lines")
 	}
+	if err := badRowAbove(lines, bestStart, best, file); err != nil {
+		return nil, err
+	}
 	best.DataLine = lines[bestStart].no
 	p.d = best
 	p.firstData = string(lines[bestStart].text)
@@ -326,6 +329,61 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 	}
 	p.timeQuantum(lines, bestStart, p.field(0))
 	return p, nil
+}
+
+// badRowAbove reports a row of the data's width with a cell that is not a number,
+// right above the data block and itself below rows of numbers of that width: a bad
+// cell inside the data (an "overload" written by an instrument, a hand edit), not the
+// end of a preamble. Without this, the rows above it would be taken for preamble and
+// the record silently cut.
+func badRowAbove(lines []sniffLine, start int, d Dialect, file string) error {
+	above := func(i int) int {
+		for i--; i >= 0 && (isBlank(lines[i].text) || isComment(lines[i].text)); i-- {
+		}
+		return i
+	}
+	b := above(start)
+	if b < 0 {
+		return nil
+	}
+	a := above(b)
+	if a < 0 {
+		return nil
+	}
+	if n, ok, full, _, _ := classify(lines[a].text, d); !ok || !full || n != d.Fields {
+		return nil
+	}
+	nums, col := 0, -1
+	var bad []byte
+	n := 0
+	splitFields(lines[b].text, d.Delim, func(f []byte, c int) bool {
+		n++
+		if _, good := parseFloat(f, d.DecimalSep); good {
+			nums++
+		} else if col < 0 {
+			col, bad = c, f
+		}
+		return true
+	})
+	if n != d.Fields || col < 0 {
+		return nil
+	}
+	if nums == 0 {
+		// A row of words: a header repeated inside the data (two files joined) when a
+		// record's worth of data rows stands above it; a preamble's small table does not.
+		rows := 0
+		for i := a; i >= 0 && rows < 16; i = above(i) {
+			if k, ok, full, _, _ := classify(lines[i].text, d); !ok || !full || k != d.Fields {
+				break
+			}
+			rows++
+		}
+		if rows < 16 {
+			return nil
+		}
+		return lineErr(file, lines[b].no, col+1, ErrSyntax, quote(lines[b].text)+": a row of words among the data (a header repeated, or two files joined?)")
+	}
+	return lineErr(file, lines[b].no, col+1, ErrSyntax, quote(bad)+" among the numbers of the data (the rows above and below it are data)")
 }
 
 // field is the field index of kept column c.
