@@ -50,3 +50,40 @@ func TestBadCellInsideTheData(t *testing.T) {
 		}
 	}
 }
+
+// A last row without its line end, as a cut copy leaves it, is kept with a warning.
+func TestUnendedLastLineWarns(t *testing.T) {
+	body := "t,U\n0,1\n1e-9,2\n2e-9,3\n3e-9,4\n4e-9,5\n5e-9,6\n6e-9,7\n7e-9,8\n8e-9,9"
+	rec, err := ReadText(strings.NewReader(body), "x.csv", TextOptions{})
+	require.NoError(t, err)
+	require.Len(t, rec.Warnings, 1)
+	assert.Contains(t, rec.Warnings[0], "line 10, the last, has no line end")
+	rec, err = ReadText(strings.NewReader(body+"\n"), "x.csv", TextOptions{})
+	require.NoError(t, err)
+	assert.Empty(t, rec.Warnings)
+}
+
+// A file with a capture's header row and no rows yet is a capture (cut before its
+// data), so that a folder scan gives it its error row rather than leaving it out.
+func TestHeaderOnlyIsACapture(t *testing.T) {
+	for _, head := range []string{"time_s,voltage_v\n", "t [s];U [V]\n", "Time,CH1\n", "x-axis,1,2\nsecond,Volt,Volt\n"} {
+		ok, what := IsCapture([]byte(head))
+		assert.True(t, ok, "%q: %s", head, what)
+	}
+	ok, _ := IsCapture([]byte("Bay 2, shots fired after lunch.\nShot 3: the earth switch was checked twice.\n"))
+	assert.False(t, ok, "prose stays out")
+}
+
+// A stated trigger point sets the start of a record with no time column: the trigger
+// sample is t = 0.
+func TestTriggerPointSetsStart(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("Sample Interval,1e-08\nTrigger Point,250\n\n")
+	for i := 0; i < 1000; i++ {
+		fmt.Fprintf(&b, "%d\n", i%7)
+	}
+	rec, err := ReadText(strings.NewReader(b.String()), "x.csv", TextOptions{})
+	require.NoError(t, err)
+	assert.InDelta(t, -2.5e-6, rec.Start_s, 1e-15)
+	assert.InDelta(t, 0, rec.Time_s(250), 1e-15)
+}

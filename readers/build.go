@@ -293,6 +293,9 @@ func (p *plan) build(rr *rowReader, opt TextOptions, file string) (*waveform.Rec
 		case ic >= 0:
 			rec.Start_s = p.pre.start + cols[ic][0]*dt
 			rec.Notes = append(rec.Notes, fmt.Sprintf("column %d (%q) counts samples from %g: time = start + index x interval", p.field(ic)+1, name(ic), cols[ic][0]))
+		case !p.pre.hasStart && p.pre.trigPoint > 0:
+			rec.Start_s = (float64(rr.lead) - p.pre.trigPoint) * dt
+			rec.Notes = append(rec.Notes, fmt.Sprintf("start from line %d: the trigger at sample %g, so the record starts %g s before it", p.pre.trigLine, p.pre.trigPoint, p.pre.trigPoint*dt))
 		default:
 			rec.Start_s = p.pre.start + float64(rr.lead)*dt
 		}

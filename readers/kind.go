@@ -2,6 +2,7 @@ package readers
 
 import (
 	"bytes"
+	"strings"
 	"io"
 	"os"
 )
@@ -68,7 +69,28 @@ func IsCapture(head []byte) (bool, string) {
 			}
 		}
 	}
+	if headerOnly(b) {
+		return true, "" // a capture cut before its rows: reading it says so
+	}
 	return false, "text with no lines of numbers"
+}
+
+// headerOnly reports whether the first line of text is a capture's header row: two or
+// more cells, the first naming a time column by its name or its unit.
+func headerOnly(b []byte) bool {
+	for _, l := range bytes.Split(b, []byte{'\n'}) {
+		if isBlank(l) || isComment(l) {
+			continue
+		}
+		cells := bytes.FieldsFunc(l, func(r rune) bool { return r == ',' || r == ';' || r == '\t' || r == '\r' })
+		if len(cells) < 2 {
+			return false
+		}
+		name, unit := SplitHeader(string(cells[0]))
+		si, _, ok := headerUnit(unit)
+		return timeNames[strings.ToLower(name)] || (ok && unit != "" && si == "s")
+	}
+	return false
 }
 
 // IsCaptureFile is IsCapture on a file's first 64 KiB.

@@ -29,6 +29,9 @@ var (
 	keyLength   = []string{"recordlength", "memorylength", "numberofpoints", "points", "recordpoints"}
 	keySource   = []string{"source", "channel"}
 	keyStamp    = []string{"triggertime", "acquisitiontime", "datetime", "timestamp"}
+	// the trigger's sample number counted from the first sample: without a stated
+	// start, the record starts that many intervals before the trigger
+	keyTrigPoint = []string{"triggerpoint", "triggersample", "triggerindex", "pretriggersamples"}
 )
 
 func normKey(k string) string {
@@ -49,7 +52,7 @@ func hasKey(keys []string, k string) bool {
 // "key,value" line right above two columns of data is not taken for their names.
 func isSettingKey(cell string) bool {
 	k := normKey(cell)
-	for _, keys := range [][]string{keyInterval, keyRate, keyStart, keyUnit, keyTimeUnit, keyRange, keyBits, keyScale, keyOffset, keyProbe, keyLength, keyStamp} {
+	for _, keys := range [][]string{keyInterval, keyRate, keyStart, keyUnit, keyTimeUnit, keyRange, keyBits, keyScale, keyOffset, keyProbe, keyLength, keyStamp, keyTrigPoint} {
 		if hasKey(keys, k) {
 			return true
 		}
@@ -66,6 +69,8 @@ type preamble struct {
 	start        float64
 	hasStart     bool
 	startLine    int
+	trigPoint    float64 // samples before the trigger, when stated; 0 otherwise
+	trigLine     int
 	unit         string
 	factor       float64
 	unitLine     int
@@ -171,6 +176,12 @@ func (p *preamble) apply(e kv, file string) error {
 			return bad(fmt.Errorf("unit %q is not a time", u))
 		}
 		p.start, p.hasStart, p.startLine = v, true, e.line
+	case hasKey(keyTrigPoint, k):
+		v, err := strconv.ParseFloat(strings.TrimSpace(e.val), 64)
+		if err != nil || v < 0 || v > MaxSamples {
+			return bad(fmt.Errorf("a sample number, not %q", e.val))
+		}
+		p.trigPoint, p.trigLine = v, e.line
 	case hasKey(keyUnit, k):
 		si, f, ok := headerUnit(e.val)
 		if !ok || si == unitIndex {

@@ -22,6 +22,7 @@ type headReader struct {
 	no       int   // lines read
 	off      int64 // bytes read
 	complete bool
+	unended  int // the last line when it has no line end, 0 otherwise
 	arena    []byte
 	kept     int    // lines of the first chunk, kept when a long head is trimmed
 	dropped  [2]int // first and last line dropped from the middle of a long head
@@ -43,6 +44,9 @@ func (h *headReader) read(lines []sniffLine, limit int) ([]sniffLine, error) {
 			return nil, fileErr(h.file, err, "")
 		}
 		h.no++
+		if err == io.EOF && line[len(line)-1] != '\n' {
+			h.unended = h.no
+		}
 		if i := binaryByte(line); i >= 0 {
 			return nil, byteErr(h.file, h.off+int64(i), ErrBinary, "give the raw description (a .hvraw sidecar or --raw flags) if this is a binary capture")
 		}

@@ -199,6 +199,9 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 		if len(line) > MaxLineBytes {
 			return nil, lineErr(file, lineNo, 0, ErrLineTooLong, fmt.Sprintf("more than %d bytes", MaxLineBytes))
 		}
+		if err == io.EOF && line[len(line)-1] != '\n' {
+			h.unended = lineNo
+		}
 		line = trimEOL(line)
 		if fast && len(line) > 0 && startsNumber(line[0]) && rr.pend == 0 {
 			if k, _, cause := scanRow(line, delim, dec, row); cause == nil && k == width {
@@ -223,7 +226,13 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 			break
 		}
 	}
-	return p.build(rr, opt, file)
+	rec, err := p.build(rr, opt, file)
+	if err == nil && h.unended > 0 && h.unended == rr.lastLine {
+		// Writers end every line; a last row without its end is what a copy or a save
+		// cut short leaves, and its last number may itself be cut.
+		rec.Warnings = append(rec.Warnings, fmt.Sprintf("line %d, the last, has no line end: the file may have been cut off while it was written (the row is kept)", h.unended))
+	}
+	return rec, err
 }
 
 // binaryByte returns the offset of the first byte no text export contains, or -1.
