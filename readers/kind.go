@@ -2,9 +2,9 @@ package readers
 
 import (
 	"bytes"
-	"strings"
 	"io"
 	"os"
+	"strings"
 )
 
 // notCaptures are the opening bytes of files that sit beside captures in a lab's
