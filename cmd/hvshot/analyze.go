@@ -53,7 +53,7 @@ func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int 
 		fs.StringVar(&o.overOver, "overshoot-over", "", "overshoot denominator: extreme (Ue) or base (Ub) (`WHICH`)")
 		fs.StringVar(&o.stages, "stages", "", "generator stages, for the efficiency Ut/(n x charging voltage) (`N`)")
 		fs.StringVar(&o.charging, "charging", "", "charging voltage per stage, e.g. 40kV (`VOLTAGE`)")
-		fs.StringSliceVar(&o.roles, "role", nil, "a channel's role without a setup file: NAME=ROLE or CHn=ROLE, ROLE divider, coil or antenna (`CH=ROLE`)")
+		fs.StringSliceVar(&o.roles, "role", nil, "a channel's role without a setup file: NAME=ROLE or CHn=ROLE, ROLE divider, coil, antenna, current (in A) or field (in V/m) (`CH=ROLE`)")
 		fs.StringSliceVar(&o.coil, "coil", nil, "coil for --role ...=coil, the setup file's keys: mutual=2nH,inductance=40nH,load_resistance=50 (`KEY=VALUE,...`)")
 		fs.StringSliceVar(&o.antenna, "antenna", nil, "antenna for --role ...=antenna: kind=whip,height=0.5m,radius=2mm,load_resistance=1Mohm,load_capacitance=20pF (`KEY=VALUE,...`)")
 		if watch {
@@ -177,7 +177,7 @@ func exitStatus(s shot.Summary) int {
 	switch {
 	case s.Errors > 0:
 		return exitFileErrors
-	case s.Fail > 0:
+	case s.Fail > 0 || s.Incomplete > 0:
 		return exitOutOfTol
 	}
 	return exitOK

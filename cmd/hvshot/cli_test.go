@@ -119,7 +119,7 @@ func TestUsageErrors(t *testing.T) {
 		{[]string{"analyze", "--peak", "300", "x"}, "--peak: \"300\" has no unit"},
 		{[]string{"analyze", "--interval", "5", "x"}, "--interval: \"5\" has no unit"},
 		{[]string{"analyze", "--ratio", "-3", "x"}, "--ratio"},
-		{[]string{"analyze", "--role", "CH2=bdot", "x"}, "divider, coil or antenna"},
+		{[]string{"analyze", "--role", "CH2=bdot", "x"}, "divider, coil, antenna, current or field"},
 		{[]string{"analyze", "--role", "CH2=coil", "x"}, "--coil"},
 		{[]string{"watch", "--bogus", "x"}, "unknown flag: --bogus"},
 		{[]string{"watch", "--poll", "often", "x"}, "--poll: \"often\" is not a duration"},

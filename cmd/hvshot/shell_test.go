@@ -17,7 +17,9 @@ import (
 )
 
 // --chopped without --nominal: chops are intended, so a full impulse fails on shape and
-// a chopped one passes (the standard shape of the family found is judged).
+// a chopped one passes (the standard shape of the family found is judged). Without it,
+// full impulses are intended: a flashover never passes unless someone said chops were
+// wanted.
 func TestChoppedIntentWithoutNominal(t *testing.T) {
 	dir := t.TempDir()
 	full, chop := filepath.Join(dir, "full.csv"), filepath.Join(dir, "chop.csv")
@@ -44,10 +46,11 @@ func TestChoppedIntentWithoutNominal(t *testing.T) {
 	rows = verdicts("--chopped", "--nominal", "1.2/50", full, chop)
 	assert.Equal(t, "fail", rows["full.csv"]["verdict"])
 	assert.Equal(t, "pass", rows["chop.csv"]["verdict"])
-	// nothing said about chops: each impulse is taken as what it is
+	// nothing said about chops: full impulses intended
 	rows = verdicts(full, chop)
 	assert.Equal(t, "pass", rows["full.csv"]["verdict"])
-	assert.Equal(t, "pass", rows["chop.csv"]["verdict"])
+	assert.Equal(t, "fail", rows["chop.csv"]["verdict"])
+	assert.Equal(t, []any{"shape"}, rows["chop.csv"]["failures"])
 }
 
 // Captures with the same base name, in two folders and in two formats, keep their own

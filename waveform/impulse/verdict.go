@@ -27,8 +27,8 @@ var (
 // For returns the nominal that a result of the shape found is judged against. A
 // nominal that names its shape is returned unchanged. One that does not (Front_s 0)
 // becomes the standard shape of the family found, keeping the test voltage and the chop
-// intent: with Chopped set, a full impulse fails on shape; without it, a chopped
-// lightning impulse is taken as intended, since nothing says it was not.
+// intent: full impulses unless Chopped says chops are intended, so that a flashover is
+// never passed without anyone having said chops were wanted.
 func (n Nominal) For(found Shape) Nominal {
 	if n.Front_s > 0 {
 		return n
@@ -37,8 +37,7 @@ func (n Nominal) For(found Shape) Nominal {
 	if found == Switching {
 		m = StandardSwitching
 	}
-	m.Peak_v = n.Peak_v
-	m.Chopped = n.Chopped || found == LightningChopped
+	m.Peak_v, m.Chopped = n.Peak_v, n.Chopped
 	return m
 }
 
@@ -117,9 +116,58 @@ func (f Failure) String() string {
 	return fmt.Sprintf("%s %.4g %s outside %.4g..%.4g %s", f.Parameter, f.Value*scale, unit, f.Min*scale, f.Max*scale, unit)
 }
 
+// Unmeasured names the parameters that judging r against nom needs and that could not
+// be measured, or not trustworthily, each with the reason: a time to half-value on a
+// record cut before it, anything read off a clipped extreme, an overshoot without a base
+// curve. A shot with such parameters can show no compliance: it neither passes nor
+// fails on them.
+func Unmeasured(r *Result, nom Nominal) map[string]string {
+	out := map[string]string{}
+	need := func(name string, v float64, why string) {
+		if math.IsNaN(v) {
+			out[name] = why
+		}
+	}
+	if nom.Peak_v > 0 {
+		need("test_voltage", r.TestVoltage_v, "no test voltage")
+	}
+	switch r.Shape {
+	case Switching:
+		need("time_to_peak", r.TimeToPeak_s, "no time to peak (it needs the time to half-value)")
+		need("time_to_half", r.TimeToHalf_s, "the record ends before the tail falls to 50 %")
+	case LightningFull:
+		need("front_time", r.FrontTime_s, "no front time")
+		need("time_to_half", r.TimeToHalf_s, "the record ends before the tail falls to 50 %")
+		need("overshoot", r.Overshoot_pct, "no base curve")
+	case LightningChopped:
+		need("front_time", r.FrontTime_s, "no front time")
+	}
+	for _, w := range r.Warnings {
+		switch w.Code {
+		case "clipped":
+			// the extreme is not the signal's: every level read from it is off
+			for _, p := range []string{"test_voltage", "overshoot", "front_time", "time_to_half", "time_to_peak"} {
+				out[p] = "the record is clipped"
+			}
+		case "fit-failed":
+			out["overshoot"] = "the base curve could not be fitted"
+		}
+	}
+	if r.Shape == Switching {
+		delete(out, "front_time")
+		delete(out, "overshoot")
+	} else {
+		delete(out, "time_to_peak")
+	}
+	if nom.Peak_v <= 0 {
+		delete(out, "test_voltage")
+	}
+	return out
+}
+
 // Judge checks r against the nominal shape and tolerances; no failures means pass.
-// Parameters that are absent (a record cut before T2) are not judged; the warnings
-// say why.
+// Parameters that are absent (a record cut before T2) are not judged here: Unmeasured
+// names them, and a shot with such parameters shows no compliance.
 func Judge(r *Result, nom Nominal, tol Tolerances) []Failure {
 	var out []Failure
 	band := func(name string, v, nominal, pct float64, unit string) {

@@ -539,3 +539,43 @@ func EstimateDroop(x []float64, dt, tailStart_s, noise float64) (tau_s, rmsPct f
 	}
 	return tau_s, 100 * math.Sqrt(ss/float64(m)) / math.Abs(A), nil
 }
+
+// MeasuredCurrent gives a channel that records the current itself, in amperes (a shunt,
+// a current transformer, a Rogowski coil with its integrator), the parameters of a
+// reconstructed one: the pre-trigger level is removed, nothing integrated.
+func MeasuredCurrent(i []float64, t0, dt float64) (*CurrentResult, error) {
+	bl := preTrigger(i)
+	cur := make([]float64, len(i))
+	for k, v := range i {
+		cur[k] = v - bl.Level
+	}
+	res := &CurrentResult{Current: cur}
+	if err := currentParams(res, t0, dt, bl.NoiseRMS); err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// MeasuredField gives a channel that records the field itself, in V/m (a calibrated
+// sensor with its own integration), its peak and its change over the record: the
+// pre-trigger level is removed, no droop undone.
+func MeasuredField(e []float64, t0, dt float64) (*FieldResult, error) {
+	bl := preTrigger(e)
+	f := make([]float64, len(e))
+	ip := 0
+	for k, v := range e {
+		f[k] = v - bl.Level
+		if math.Abs(f[k]) > math.Abs(f[ip]) {
+			ip = k
+		}
+	}
+	if f[ip] == 0 {
+		return nil, fmt.Errorf("%w: the field is zero throughout", ErrNoSignal)
+	}
+	res := &FieldResult{Field: f, Polarity: 1, Peak_v_per_m: math.Abs(f[ip]), PeakTime_s: t0 + float64(ip)*dt,
+		EndChange_v_per_m: f[len(f)-1], Tau_s: math.NaN()}
+	if f[ip] < 0 {
+		res.Polarity = -1
+	}
+	return res, nil
+}

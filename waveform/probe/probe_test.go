@@ -206,3 +206,28 @@ func BenchmarkReconstruct1M(b *testing.B) {
 		}
 	})
 }
+
+// A channel that records a double-exponential current itself gives back its closed-form
+// peak (U times the peak factor at ln(tau1/tau2) tau1 tau2/(tau1 - tau2)) and charge
+// U (tau1 - tau2), with no reconstruction in between.
+func TestMeasuredCurrentClosedForm(t *testing.T) {
+	tau1, tau2, u := 20e-6, 1e-6, 3e3
+	dt := 5e-9
+	i := make([]float64, 80000)
+	for k := range i {
+		if x := float64(k)*dt - 5e-6; x > 0 {
+			i[k] = u * (math.Exp(-x/tau1) - math.Exp(-x/tau2))
+		}
+	}
+	tp := math.Log(tau1/tau2) * tau1 * tau2 / (tau1 - tau2)
+	peak := u * (math.Exp(-tp/tau1) - math.Exp(-tp/tau2))
+	r, err := MeasuredCurrent(i, -5e-6, dt)
+	require.NoError(t, err)
+	assert.InEpsilon(t, peak, r.Peak_a, 1e-6)
+	assert.InDelta(t, tp, r.PeakTime_s, dt)
+	// the record ends at 395 us: the tail's charge beyond it is u tau1 exp(-395/20), 3e-9 of the whole
+	assert.InEpsilon(t, u*(tau1-tau2), r.Charge_c, 1e-4)
+	f, err := MeasuredField(i, -5e-6, dt)
+	require.NoError(t, err)
+	assert.InEpsilon(t, peak, f.Peak_v_per_m, 1e-6)
+}

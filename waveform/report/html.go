@@ -42,7 +42,7 @@ var reportTmpl = template.Must(template.New("report").Parse(`<!DOCTYPE html>
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>{{.Title}}</title>
 <style>
-:root{--pass:#176117;--fail:#a00000;--error:#7a4b00;--measured:#33506e}
+:root{--pass:#176117;--fail:#a00000;--error:#7a4b00;--measured:#33506e;--incomplete:#8a3c00}
 *{box-sizing:border-box}
 body{font-family:"Liberation Sans",Arial,Helvetica,system-ui,sans-serif;margin:1.5em auto;max-width:62em;color:#222;padding:0 1em;font-size:15px;line-height:1.35}
 h1{font-size:1.45em;margin:.2em 0}h2{font-size:1.15em;margin-top:1.8em;border-bottom:1px solid #bbb}h3{font-size:1.02em;margin:.2em 0}
@@ -51,7 +51,7 @@ th{background:#f2f2f2;font-weight:600}td.l,th.l{text-align:left}
 .num{white-space:nowrap;font-variant-numeric:tabular-nums}
 table.shots{width:100%}table.shots td.shot{overflow-wrap:break-word}table.shots td.shape{white-space:nowrap}
 table.shots tr.first td{border-top:2px solid #999}table.shots tr.why td{text-align:left;border-top:none;font-size:.82em;color:#444;overflow-wrap:anywhere}
-.pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}
+.pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}
 dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:.6em 0}dl.facts dt{font-weight:600}dl.facts dd{margin:0;overflow-wrap:anywhere}
 .synthetic{background:#fde8e8;border:2px solid #a00000;color:#a00000;font-weight:bold;padding:.5em .8em;margin:.8em 0}
 .shot{border:1px solid #ddd;padding:.4em .8em;margin:1em 0;border-radius:4px}
@@ -87,6 +87,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 <tr><th class="l">pass</th><td class="pass">{{.Sum.Pass}}</td></tr>
 <tr><th class="l">fail</th><td class="fail">{{.Sum.Fail}}</td></tr>
 <tr><th class="l">error</th><td class="error">{{.Sum.Errors}}</td></tr>
+{{if .Sum.Incomplete}}<tr><th class="l">incomplete (compliance not shown)</th><td class="incomplete">{{.Sum.Incomplete}}</td></tr>{{end}}
 {{if .Sum.Measured}}<tr><th class="l">measured (no tolerance applies)</th><td class="measured">{{.Sum.Measured}}</td></tr>{{end}}
 </table>
 {{if .Sum.Interrupted}}<p class="fail">The run was interrupted: only the shots finished before the stop are here.</p>{{end}}
@@ -126,14 +127,14 @@ type htmlRow struct {
 // PNG as data), no network.
 func HTML(w io.Writer, p Page) error {
 	// Shots with errors first, then failures, each shot's rows together.
-	rank := map[shot.Verdict]int{shot.Error: 0, shot.Fail: 1}
+	rank := map[shot.Verdict]int{shot.Error: 0, shot.Fail: 1, shot.Incomplete: 2}
 	worst := map[string]int{}
 	synthetic := map[string]bool{}
 	for i := range p.Rows {
 		r := &p.Rows[i]
 		k, ok := rank[r.Verdict]
 		if !ok {
-			k = 2
+			k = 3
 		}
 		if v, seen := worst[r.File]; !seen || k < v {
 			worst[r.File] = k
@@ -204,6 +205,9 @@ func HTML(w io.Writer, p Page) error {
 	tolerances := "test voltage ±" + f(t.TestVoltage_pct) + " %; lightning T1 ±" + f(t.Front_pct) + " %, T2 ±" + f(t.Tail_pct) + " %, overshoot at most " + f(t.OvershootMax_pct) + " %; switching Tp ±" + f(t.TimeToPeak_pct) + " %, T2 ±" + f(t.SwitchingTail_pct) + " %"
 	s := p.Summary
 	outcome, class := "every shot evaluated and within tolerance", "pass"
+	if s.Incomplete > 0 {
+		outcome, class = strconv.Itoa(s.Incomplete)+" channel rows incomplete: compliance not shown", "incomplete"
+	}
 	switch {
 	case s.Errors > 0 && s.Fail > 0:
 		outcome, class = strconv.Itoa(s.Fail)+" channel rows out of tolerance, "+strconv.Itoa(s.Errors)+" not evaluated", "fail"

@@ -123,11 +123,14 @@ func Summary(w io.Writer, s shot.Summary) {
 	if s.Shots != s.Files {
 		files += " (" + plural(s.Shots, "shot") + ")"
 	}
-	measured := ""
-	if s.Measured > 0 {
-		measured = fmt.Sprintf(", %d measured (no tolerance applies)", s.Measured)
+	more := ""
+	if s.Incomplete > 0 {
+		more += fmt.Sprintf(", %d incomplete (compliance not shown)", s.Incomplete)
 	}
-	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error%s\n", files, plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors, measured)
+	if s.Measured > 0 {
+		more += fmt.Sprintf(", %d measured (no tolerance applies)", s.Measured)
+	}
+	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error%s\n", files, plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors, more)
 	if s.Interrupted {
 		fmt.Fprintln(w, "  interrupted: the rows above are the files finished before the stop")
 	}

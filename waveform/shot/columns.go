@@ -38,6 +38,7 @@ type Column struct {
 	Fixed   bool    // Digits counts decimals, for values near zero such as overshoot
 	Console int     // position in the per-shot tables on the console and in the report; 0: not there
 	Stat    string  // the series statistic's name; empty when the summary leaves it out
+	Param   string  // the parameter a tolerance judges, as failures and unmeasured name it
 
 	index  int
 	value  func(*sources) float64 // Number
@@ -97,30 +98,33 @@ var (
 	ColChannel = &Column{Key: "channel", Kind: Text, Label: "channel", Doc: "the channel's name", text: func(r *Row) string { return r.Channel }}
 	ColShape   = &Column{Key: "shape", Kind: Text, Label: "shape", Doc: "`lightning-full`, `lightning-chopped`, `switching`, `none`",
 		text: func(r *Row) string { return string(r.Shape) }}
-	ColTestVoltage = &Column{Key: "test_voltage_v", Unit: "V", Kind: Number, Label: "Ut", Screen: "kV", Scale: 1e-3, Digits: 4, Console: 1,
+	ColTestVoltage = &Column{Key: "test_voltage_v", Unit: "V", Kind: Number, Label: "Ut", Param: "test_voltage", Screen: "kV", Scale: 1e-3, Digits: 4, Console: 1,
 		Stat: "test voltage Ut", Doc: "Ut, the test voltage curve's maximum", value: fromImpulse(func(r *impulse.Result) float64 { return r.TestVoltage_v })}
-	ColOvershoot = &Column{Key: "overshoot_pct", Unit: "%", Kind: Number, Label: "beta'", Screen: "%", Scale: 1, Digits: 1, Fixed: true, Console: 4,
+	ColOvershoot = &Column{Key: "overshoot_pct", Unit: "%", Kind: Number, Label: "beta'", Param: "overshoot", Screen: "%", Scale: 1, Digits: 1, Fixed: true, Console: 4,
 		Stat: "overshoot beta'", Doc: "beta', the relative overshoot, in percent", value: fromFit(func(r *impulse.Result) float64 { return r.Overshoot_pct })}
-	ColFrontTime = &Column{Key: "front_time_s", Unit: "s", Kind: Number, Label: "T1", Screen: "us", Scale: 1e6, Digits: 4, Console: 2,
+	ColFrontTime = &Column{Key: "front_time_s", Unit: "s", Kind: Number, Label: "T1", Param: "front_time", Screen: "us", Scale: 1e6, Digits: 4, Console: 2,
 		Stat: "front time T1", Doc: "T1, the front time", value: fromImpulse(func(r *impulse.Result) float64 { return r.FrontTime_s })}
-	ColTimeToHalf = &Column{Key: "time_to_half_s", Unit: "s", Kind: Number, Label: "T2", Screen: "us", Scale: 1e6, Digits: 4, Console: 3,
+	ColTimeToHalf = &Column{Key: "time_to_half_s", Unit: "s", Kind: Number, Label: "T2", Param: "time_to_half", Screen: "us", Scale: 1e6, Digits: 4, Console: 3,
 		Stat: "time to half-value T2", Doc: "T2, the time to half-value (lightning: from O1; switching: from the true origin)",
 		value: fromImpulse(func(r *impulse.Result) float64 { return r.TimeToHalf_s })}
 	ColChopTime = &Column{Key: "chop_time_s", Unit: "s", Kind: Number, Label: "Tc", Screen: "us", Scale: 1e6, Digits: 4, Console: 5,
 		Doc: "Tc, the time to chopping, from O1", value: fromImpulse(func(r *impulse.Result) float64 { return r.ChopTime_s })}
-	ColTimeToPeak = &Column{Key: "time_to_peak_s", Unit: "s", Kind: Number, Label: "Tp", Screen: "us", Scale: 1e6, Digits: 4, Console: 6,
+	ColTimeToPeak = &Column{Key: "time_to_peak_s", Unit: "s", Kind: Number, Label: "Tp", Param: "time_to_peak", Screen: "us", Scale: 1e6, Digits: 4, Console: 6,
 		Doc: "Tp, the switching impulse's time to peak", value: fromImpulse(func(r *impulse.Result) float64 { return r.TimeToPeak_s })}
 	ColPeakCurrent = &Column{Key: "peak_current_a", Unit: "A", Kind: Number, Label: "I", Screen: "kA", Scale: 1e-3, Digits: 4, Console: 7,
-		Stat: "peak current", Doc: "coil: the current's peak", value: fromCurrent(func(r *probe.CurrentResult) float64 { return r.Peak_a })}
+		Stat: "peak current", Doc: "coil or current: the current's peak", value: fromCurrent(func(r *probe.CurrentResult) float64 { return r.Peak_a })}
 	ColPeakField = &Column{Key: "peak_field_v_per_m", Unit: "V/m", Kind: Number, Label: "E", Screen: "kV/m", Scale: 1e-3, Digits: 4, Console: 8,
-		Stat: "peak field", Doc: "antenna: the field's peak", value: fromField(func(r *probe.FieldResult) float64 { return r.Peak_v_per_m })}
+		Stat: "peak field", Doc: "antenna or field: the field's peak", value: fromField(func(r *probe.FieldResult) float64 { return r.Peak_v_per_m })}
 	ColEfficiency = &Column{Key: "efficiency", Kind: Number, Label: "efficiency", Scale: 1, Digits: 3, Stat: "generator efficiency",
 		Doc: "Ut / (stages x charging voltage)", value: func(s *sources) float64 { return s.efficiency }}
-	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `error`, or `measured` for a channel no tolerance applies to (coil, antenna)",
+	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, or `measured` for a channel no tolerance applies to (coil, antenna, current, field)",
 		text: func(r *Row) string { return string(r.Verdict) }}
 	ColFailures = &Column{Key: "failures", Kind: List, always: true, Label: "failures",
 		Doc:  "names of the parameters out of tolerance (`test_voltage`, `front_time`, `time_to_half`, `overshoot`, `time_to_peak`, `shape`); CSV: joined by `;`",
 		text: func(r *Row) string { return strings.Join(r.FailureNames(), ";") }}
+	ColUnmeasured = &Column{Key: "unmeasured", Kind: List, always: false, Label: "not measured",
+		Doc:  "names of the parameters the verdict needs that could not be measured (verdict `incomplete`); CSV: joined by `;`",
+		text: func(r *Row) string { return strings.Join(r.Unmeasured, ";") }}
 	ColWarnings = &Column{Key: "warnings", Kind: List, always: true, Label: "warnings",
 		Doc: "`{code, text}` objects; CSV: the codes joined by `;`", text: func(r *Row) string {
 			c := make([]string, len(r.Warnings))
@@ -136,7 +140,7 @@ var (
 // Columns is the output table, in output order. docs/output.md lists the same keys.
 var Columns = []*Column{
 	ColFile, ColChannel,
-	{Key: "role", Kind: Text, Label: "role", Doc: "`divider`, `coil` or `antenna`", text: func(r *Row) string { return string(r.Role) }},
+	{Key: "role", Kind: Text, Label: "role", Doc: "`divider`, `coil`, `antenna`, `current` (a channel in A) or `field` (a channel in V/m)", text: func(r *Row) string { return string(r.Role) }},
 	ColShape,
 	{Key: "polarity", Kind: Text, Label: "polarity", Doc: "`positive` or `negative`; magnitudes are positive", text: func(r *Row) string { return string(r.Polarity) }},
 	ColTestVoltage,
@@ -193,7 +197,7 @@ var Columns = []*Column{
 		text: func(r *Row) string { return flag(r.DroopEstimated) }},
 	{Key: "synthetic", Kind: Flag, Label: "synthetic", Doc: "`true` when the capture says it is synthetic (made by `hvshot synth` or the demo), not a measurement",
 		text: func(r *Row) string { return flag(r.Synthetic) }},
-	ColVerdict, ColFailures, ColWarnings, ColError,
+	ColVerdict, ColFailures, ColUnmeasured, ColWarnings, ColError,
 }
 
 func init() {
@@ -227,6 +231,7 @@ type Row struct {
 	Synthetic      bool // the capture says it is synthetic: a rehearsal, not a test record
 	Verdict        Verdict
 	Failures       []impulse.Failure
+	Unmeasured     []string // parameters the verdict needs that could not be measured
 	Warnings       []Warning
 	Error          string
 	// Plot is the row's plot file relative to the output folder, set by whoever drew
@@ -316,6 +321,10 @@ func (r *Row) MarshalJSON() ([]byte, error) {
 		switch {
 		case c == ColFailures:
 			err = put(c.Key, r.FailureNames())
+		case c == ColUnmeasured:
+			if len(r.Unmeasured) > 0 {
+				err = put(c.Key, r.Unmeasured)
+			}
 		case c == ColWarnings:
 			w := r.Warnings
 			if w == nil {

@@ -9,15 +9,29 @@ const (
 	Divider Role = "divider" // a voltage divider: the impulse voltage
 	Coil    Role = "coil"    // a B-dot pickup coil: the discharge current
 	Antenna Role = "antenna" // an E-field antenna: the radiated field
+	Current Role = "current" // a channel that records the current itself, in A
+	Field   Role = "field"   // a channel that records the field itself, in V/m
 )
 
 // ParseRole reads a role name.
 func ParseRole(s string) (Role, error) {
 	switch r := Role(s); r {
-	case Divider, Coil, Antenna:
+	case Divider, Coil, Antenna, Current, Field:
 		return r, nil
 	}
-	return "", fmt.Errorf("divider, coil or antenna, not %q", s)
+	return "", fmt.Errorf("divider, coil, antenna, current or field, not %q", s)
+}
+
+// roleOfUnit is the role a channel's unit implies when nothing else gives it one: a
+// channel in amperes records a current, one in V/m a field; neither is a divider.
+func roleOfUnit(unit string) Role {
+	switch unit {
+	case "A":
+		return Current
+	case "V/m":
+		return Field
+	}
+	return ""
 }
 
 // UnmarshalText lets the setup file's role key be checked as it is decoded.
@@ -38,6 +52,10 @@ const (
 	Fail     Verdict = "fail"     // evaluated, and some parameter out of tolerance
 	Error    Verdict = "error"    // not read or not evaluated; the row's error says why
 	Measured Verdict = "measured" // evaluated, and no tolerance applies (a coil or antenna channel)
+	// Incomplete: evaluated, but a parameter the verdict needs could not be measured
+	// (a record cut before T2, a clipped extreme): compliance is not shown, nor refuted
+	// by what could be measured.
+	Incomplete Verdict = "incomplete"
 )
 
 // Word is the verdict as screens show it.
@@ -49,6 +67,8 @@ func (v Verdict) Word() string {
 		return "FAIL"
 	case Measured:
 		return "MEASURED"
+	case Incomplete:
+		return "INCOMPLETE"
 	}
 	return "ERROR"
 }

@@ -122,9 +122,12 @@ func plan(rec *waveform.Record, cfg *Config) ([]planned, []Warning, error) {
 	}
 	for i := range rec.Channels {
 		p := planned{ch: &rec.Channels[i], index: i, setup: ChannelSetup{Role: Divider}}
-		if assigned[i] != nil {
+		switch {
+		case assigned[i] != nil:
 			p.setup = *assigned[i]
-		} else if len(rec.Channels) > 1 {
+		case roleOfUnit(rec.Channels[i].Unit) != "":
+			p.setup.Role = roleOfUnit(rec.Channels[i].Unit)
+		case len(rec.Channels) > 1:
 			p.named = RoleFromName(rec.Channels[i].Name)
 		}
 		out = append(out, p)

@@ -30,7 +30,8 @@ type Summary struct {
 	Pass        int    `json:"pass"`
 	Fail        int    `json:"fail"`
 	Errors      int    `json:"error"`
-	Measured    int    `json:"measured"` // rows with no tolerance to judge (coil, antenna)
+	Measured    int    `json:"measured"`   // rows with no tolerance to judge (coil, antenna)
+	Incomplete  int    `json:"incomplete"` // rows whose compliance could not be shown
 	Stats       []Stat `json:"stats"`
 	Interrupted bool   `json:"interrupted,omitempty"`
 }
@@ -42,6 +43,7 @@ type Series struct {
 	files, shots, rows int
 	pass, fail, errors int
 	measured           int
+	incomplete         int
 	acc                []welford // by column index
 }
 
@@ -91,11 +93,14 @@ func (s *Series) add(sh *Shot) {
 			s.fail++
 		case Measured:
 			s.measured++
+		case Incomplete:
+			s.incomplete++
 		default:
 			s.errors++
 		}
 		for _, c := range Columns {
-			if v, ok := r.Value(c); ok && c.Stat != "" {
+			// a value the verdict could not trust (a clipped extreme) is no statistic either
+			if v, ok := r.Value(c); ok && c.Stat != "" && !slices.Contains(r.Unmeasured, c.Param) {
 				s.acc[c.index].add(v)
 			}
 		}
@@ -104,7 +109,7 @@ func (s *Series) add(sh *Shot) {
 
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
-	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Stats: []Stat{}}
+	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Stats: []Stat{}}
 	// in the per-shot tables' order, then the rest in the column table's
 	cols := slices.Clone(Columns)
 	rank := func(c *Column) int {

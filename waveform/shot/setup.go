@@ -222,7 +222,7 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 			return nil, bad(c.line, where, "needs match (a name or pattern) or index")
 		}
 		if c.Role == "" {
-			return nil, bad(c.line, where+".role", "missing: divider, coil or antenna")
+			return nil, bad(c.line, where+".role", "missing: divider, coil, antenna, current or field")
 		}
 		if err := c.Check(); err != nil {
 			return nil, bad(c.line, where, "%v", err)

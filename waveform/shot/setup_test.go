@@ -18,7 +18,7 @@ func TestSetupErrorsNameKeyAndLine(t *testing.T) {
 		{"unknown key", "series = \"x\"\n[nominal]\nshape = \"1.2/50\"\ncolour = \"red\"\n", []string{"s.toml:4", "colour", "unknown key"}},
 		{"wrong type", "[generator]\nstages = \"eight\"\n", []string{"s.toml:2", "stages"}},
 		{"coil without its table", "[[channel]]\nmatch = \"CH2\"\nrole = \"coil\"\n", []string{"s.toml:1", "coil"}},
-		{"unknown role", "[[channel]]\nmatch = \"CH2\"\nrole = \"bdot\"\n", []string{"s.toml:3", "divider, coil or antenna"}},
+		{"unknown role", "[[channel]]\nmatch = \"CH2\"\nrole = \"bdot\"\n", []string{"s.toml:3", "divider, coil, antenna, current or field"}},
 		{"bad shape", "[nominal]\nshape = \"fast\"\n", []string{"s.toml:2", "nominal.shape"}},
 		{"bad forced shape", "[method]\nforce_shape = \"round\"\n", []string{"s.toml:2", "force_shape"}},
 		{"zero ratio", "[[channel]]\nindex = 1\nrole = \"divider\"\nratio = 0\n", []string{"s.toml:1", "ratio"}},

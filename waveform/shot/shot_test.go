@@ -261,3 +261,58 @@ func TestImplausibleTimeBaseWarns(t *testing.T) {
 		assert.NotEqual(t, "time-implausible", w.Code)
 	}
 }
+
+// A shot whose compliance cannot be shown is incomplete: never a pass on a number that
+// could not be measured, never a fail on one that could not be trusted; a measured
+// parameter out of tolerance still fails it. Its values stay out of the statistics.
+func TestIncompleteVerdict(t *testing.T) {
+	gen := func(s synth.Spec) *waveform.Record {
+		rec, err := synth.Generate(s)
+		require.NoError(t, err)
+		return rec
+	}
+	base := synth.Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, Noise: 0.002, PreTrigger_s: 4e-6, Interval_s: 10e-9, Duration_s: 120e-6, Seed: 3}
+	cfg := shot.NewConfig()
+	cfg.Nominal.Peak_v = 300e3
+	cut := base
+	cut.Duration_s = 20e-6 // the tail ends before 50 %
+	r := shot.Evaluate(gen(cut), "cut.csv", cfg).Rows[0]
+	assert.Equal(t, shot.Incomplete, r.Verdict)
+	assert.Equal(t, []string{"time_to_half"}, r.Unmeasured)
+	slowCut := cut
+	slowCut.Front_s = 2.5e-6
+	r = shot.Evaluate(gen(slowCut), "slow.csv", cfg).Rows[0]
+	assert.Equal(t, shot.Fail, r.Verdict, "a measured front out of tolerance fails")
+	assert.Equal(t, []string{"front_time"}, r.FailureNames())
+	clipped := base
+	clipped.Range_v, clipped.Bits = 250e3, 12
+	s := shot.Evaluate(gen(clipped), "clip.csv", cfg)
+	r = s.Rows[0]
+	assert.Equal(t, shot.Incomplete, r.Verdict, "%v", r.FailureNames())
+	assert.Contains(t, r.Unmeasured, "test_voltage")
+	assert.Empty(t, r.Failures, "no failure on a clipped extreme")
+	series := shot.NewSeries("")
+	series.Add(s)
+	for _, st := range series.Summary().Stats {
+		assert.NotEqual(t, "test_voltage_v", st.Key, "a clipped Ut is no statistic")
+	}
+}
+
+// A channel in amperes records a current, one in V/m a field: measured directly, never
+// judged as a divider.
+func TestChannelsInAmperesAndVoltsPerMetre(t *testing.T) {
+	rec := record(t, 1.2, 7)
+	rec.Channels[1].Name, rec.Channels[1].Unit = "current", "A"
+	rec.Channels = append(rec.Channels, waveform.Channel{Name: "E", Unit: "V/m", Samples: append([]float64(nil), rec.Channels[0].Samples...)})
+	s := shot.Evaluate(rec, "a.csv", shot.NewConfig())
+	require.Len(t, s.Rows, 3)
+	assert.Equal(t, shot.Divider, s.Rows[0].Role)
+	assert.Equal(t, shot.Current, s.Rows[1].Role)
+	assert.Equal(t, shot.Measured, s.Rows[1].Verdict, s.Rows[1].Error)
+	assert.Equal(t, shot.Field, s.Rows[2].Role)
+	v, ok := s.Rows[2].Value(shot.ColPeakField)
+	require.True(t, ok)
+	assert.InEpsilon(t, 300e3, v, 0.02)
+	_, ok = s.Rows[2].Value(shot.ColTestVoltage)
+	assert.False(t, ok)
+}
