@@ -91,12 +91,12 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Sum.Measured}}<tr><th class="l">measured (no tolerance applies)</th><td class="measured">{{.Sum.Measured}}</td></tr>{{end}}
 </table>
 {{if .Sum.Interrupted}}<p class="fail">The run was interrupted: only the shots finished before the stop are here.</p>{{end}}
-{{if .Stats}}<table id="stats-table"><tr><th class="l">parameter</th><th>n</th><th>mean</th><th>sd</th><th>min</th><th>max</th><th class="l">unit</th></tr>
-{{range .Stats}}<tr>{{range $i, $c := .}}<td class="{{if or (eq $i 0) (eq $i 6)}}l{{else}}num{{end}}">{{$c}}</td>{{end}}</tr>
+{{if .Stats}}<table id="stats-table"><tr><th class="l">parameter</th><th class="l">shots</th><th>n</th><th>mean</th><th>sd</th><th>min</th><th>max</th><th class="l">unit</th></tr>
+{{range .Stats}}<tr>{{range $i, $c := .}}<td class="{{if or (eq $i 0) (eq $i 1) (eq $i 7)}}l{{else}}num{{end}}">{{$c}}</td>{{end}}</tr>
 {{end}}</table>{{end}}
 <h2>Shots, failing and unreadable first</h2>
-<table class="shots" id="shots-table"><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr>
-{{range .Rows}}<tr{{if .First}} class="first"{{end}}><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
+<table class="shots" id="shots-table"><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th><th class="l">pol.</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr>
+{{range .Rows}}<tr{{if .First}} class="first"{{end}}><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td><td class="l">{{.Pol}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
 {{if .Why}}<tr class="why"><td></td><td colspan="{{$.Span}}" class="{{.R.Verdict}}-why">{{.Why}}</td></tr>{{end}}
 {{end}}</table>
 {{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}} · {{.Channel}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
@@ -118,6 +118,7 @@ type htmlRow struct {
 	Anchor  string
 	Channel string
 	Kind    string // shape and polarity in words
+	Pol     string
 	Why     string
 	Cells   []string
 	Params  []struct{ K, V string }
@@ -162,7 +163,7 @@ func HTML(w io.Writer, p Page) error {
 		if first {
 			k = 0
 		}
-		x := htmlRow{R: r, First: first, Anchor: shot.Anchor(r.File, k), Channel: r.Channel, Why: Why(r)}
+		x := htmlRow{R: r, First: first, Anchor: shot.Anchor(r.File, k), Channel: r.Channel, Why: Why(r), Pol: polWord(r.Polarity)}
 		k++
 		if x.Channel == "" {
 			x.Channel = "-"
@@ -184,7 +185,7 @@ func HTML(w io.Writer, p Page) error {
 	var stats [][]string
 	for _, st := range p.Summary.Stats {
 		mean, sd, lo, hi, unit := StatCells(st)
-		stats = append(stats, []string{st.Name, strconv.Itoa(st.N), mean, sd, lo, hi, strings.ReplaceAll(unit, "us", "µs")})
+		stats = append(stats, []string{st.Name, st.Group, strconv.Itoa(st.N), mean, sd, lo, hi, strings.ReplaceAll(unit, "us", "µs")})
 	}
 	cfg := p.Config
 	if cfg == nil {
@@ -251,7 +252,7 @@ func HTML(w io.Writer, p Page) error {
 	// sheet unless it is typed as CSS, so quote it here, escaping what could end it.
 	titleCSS := template.CSS(`"` + strings.NewReplacer(`\`, `\\`, `"`, `\"`, "\n", " ", "<", `\3c `, ">", `\3e `).Replace(title) + `"`)
 	data := map[string]any{
-		"Title": title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 3, "Stats": stats, "Version": p.Version,
+		"Title": title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn,

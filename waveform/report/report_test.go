@@ -105,7 +105,7 @@ func TestTableAndSummary(t *testing.T) {
 	assert.Contains(t, lines[1], "PASS")
 	assert.Contains(t, lines[2], "FAIL")
 	assert.Contains(t, out, "2 files, 2 channel rows: 1 pass, 1 fail, 0 error")
-	assert.Regexp(t, `front time T1\s+2\s+1\.5`, out)
+	assert.Regexp(t, `front time T1\s+lightning, positive\s+2\s+1\.5`, out)
 }
 
 // BenchmarkPlot draws one divider's two-panel plot from a 12,001-sample record.

@@ -65,6 +65,14 @@ func Why(r *shot.Row) string {
 	return why
 }
 
+// polWord is a polarity in three letters, for a narrow column.
+func polWord(p shot.Polarity) string {
+	if p == "" {
+		return ""
+	}
+	return string(p[:3])
+}
+
 func dash(s string) string {
 	if s == "" {
 		return "-"
@@ -76,14 +84,14 @@ func dash(s string) string {
 func Table(w io.Writer, rows []shot.Row) {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
 	cols := consoleColumns()
-	head := []string{"shot", "channel", "shape"}
+	head := []string{"shot", "channel", "shape", "pol."}
 	for _, c := range cols {
 		head = append(head, Header(c))
 	}
 	fmt.Fprintln(tw, strings.Join(append(head, "verdict", "why / warnings"), "\t"))
 	for i := range rows {
 		r := &rows[i]
-		cells := []string{r.File, dash(r.Channel), dash(string(r.Shape))}
+		cells := []string{r.File, dash(r.Channel), dash(string(r.Shape)), dash(polWord(r.Polarity))}
 		for _, c := range cols {
 			cells = append(cells, Cell(r, c))
 		}
@@ -138,10 +146,10 @@ func Summary(w io.Writer, s shot.Summary) {
 		return
 	}
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
-	fmt.Fprintln(tw, "  parameter\tn\tmean\tsd\tmin\tmax\tunit")
+	fmt.Fprintln(tw, "  parameter\tshots\tn\tmean\tsd\tmin\tmax\tunit")
 	for _, st := range s.Stats {
 		mean, sd, lo, hi, unit := StatCells(st)
-		fmt.Fprintf(tw, "  %s\t%d\t%s\t%s\t%s\t%s\t%s\n", st.Name, st.N, mean, sd, lo, hi, unit)
+		fmt.Fprintf(tw, "  %s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\n", st.Name, st.Group, st.N, mean, sd, lo, hi, unit)
 	}
 	tw.Flush()
 }

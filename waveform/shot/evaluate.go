@@ -78,6 +78,16 @@ func Evaluate(rec *waveform.Record, id string, cfg *Config) *Shot {
 	if err != nil {
 		return Failed(id, err)
 	}
+	// a ratio given for a channel the file does not have would be lost without a word
+	for k := range cfg.Ratios {
+		found := false
+		for _, p := range plans {
+			found = found || k == p.ch.Name || k == p.setup.Name || strings.EqualFold(k, "CH"+strconv.Itoa(p.index+1))
+		}
+		if !found {
+			warns = append(warns, Warning{"ratio-unmatched", fmt.Sprintf("the ratio for %q matches no channel; the file's channels are %s", k, channelNames(rec))})
+		}
+	}
 	s := &Shot{ID: id}
 	for _, p := range plans {
 		row, c := evaluateChannel(rec, id, p, cfg)
@@ -113,10 +123,9 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	if cs.Role == Divider && cfg.Ratio != 0 {
 		ratio = cfg.Ratio
 	}
-	for _, k := range []string{p.ch.Name, label, "CH" + strconv.Itoa(p.index+1), "ch" + strconv.Itoa(p.index+1)} {
-		if v, ok := cfg.Ratios[k]; ok {
+	for k, v := range cfg.Ratios {
+		if k == p.ch.Name || k == label || strings.EqualFold(k, "CH"+strconv.Itoa(p.index+1)) {
 			ratio = v
-			break
 		}
 	}
 	if ratio != 0 && ratio != 1 {

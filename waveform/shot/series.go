@@ -3,19 +3,22 @@ package shot
 import (
 	"math"
 	"slices"
+
+	"github.com/hvshot/hvshot/waveform/impulse"
 )
 
 // Stat is the spread of one parameter over a series, in SI.
 type Stat struct {
-	Name string  `json:"name"`
-	Key  string  `json:"key"`
-	Unit string  `json:"unit"`
-	N    int     `json:"n"`
-	Mean float64 `json:"mean"`
-	SD   float64 `json:"sd"` // sample standard deviation; 0 for a single value
-	Min  float64 `json:"min"`
-	Max  float64 `json:"max"`
-	col  *Column
+	Name  string  `json:"name"`
+	Key   string  `json:"key"`
+	Group string  `json:"group"` // the shots it pools: shape family and polarity, "lightning, positive"
+	Unit  string  `json:"unit"`
+	N     int     `json:"n"`
+	Mean  float64 `json:"mean"`
+	SD    float64 `json:"sd"` // sample standard deviation; 0 for a single value
+	Min   float64 `json:"min"`
+	Max   float64 `json:"max"`
+	col   *Column
 }
 
 // Column is the output column the statistic summarises (nil after decoding JSON).
@@ -44,7 +47,27 @@ type Series struct {
 	pass, fail, errors int
 	measured           int
 	incomplete         int
-	acc                []welford // by column index
+	acc                map[statKey]*welford
+}
+
+// statKey is one statistic: a column over one group of shots. Lightning and switching
+// impulses, and positive and negative ones, are never pooled: a mean T2 of the two
+// families, or a mean Ut of both polarities, describes no shot.
+type statKey struct {
+	col   int
+	group string
+}
+
+// group is the row's group: its shape family (for dividers) and its polarity.
+func group(r *Row) string {
+	g := string(r.Polarity)
+	switch r.Shape {
+	case impulse.LightningFull, impulse.LightningChopped:
+		g = "lightning, " + g
+	case impulse.Switching:
+		g = "switching, " + g
+	}
+	return g
 }
 
 // welford is Welford's running mean and sum of squared deviations (Knuth, TAOCP vol. 2,
@@ -69,7 +92,7 @@ func (w *welford) add(v float64) {
 
 // NewSeries starts a series of the given name.
 func NewSeries(name string) *Series {
-	return &Series{name: name, acc: make([]welford, len(Columns))}
+	return &Series{name: name, acc: map[statKey]*welford{}}
 }
 
 // Add counts one file's shots (one, or one a segment): their rows by verdict and their
@@ -101,7 +124,11 @@ func (s *Series) add(sh *Shot) {
 		for _, c := range Columns {
 			// a value the verdict could not trust (a clipped extreme) is no statistic either
 			if v, ok := r.Value(c); ok && c.Stat != "" && !slices.Contains(r.Unmeasured, c.Param) {
-				s.acc[c.index].add(v)
+				k := statKey{c.index, group(r)}
+				if s.acc[k] == nil {
+					s.acc[k] = &welford{}
+				}
+				s.acc[k].add(v)
 			}
 		}
 	}
@@ -119,16 +146,25 @@ func (s *Series) Summary() Summary {
 		return len(Columns) + c.index
 	}
 	slices.SortStableFunc(cols, func(a, b *Column) int { return rank(a) - rank(b) })
+	var groups []string
+	for k := range s.acc {
+		if !slices.Contains(groups, k.group) {
+			groups = append(groups, k.group)
+		}
+	}
+	slices.Sort(groups)
 	for _, c := range cols {
-		w := s.acc[c.index]
-		if c.Stat == "" || w.n == 0 {
-			continue
+		for _, g := range groups {
+			w := s.acc[statKey{c.index, g}]
+			if w == nil {
+				continue
+			}
+			st := Stat{Name: c.Stat, Key: c.Key, Group: g, Unit: c.Unit, N: w.n, Mean: w.mean, Min: w.min, Max: w.max, col: c}
+			if w.n > 1 {
+				st.SD = math.Sqrt(w.m2 / float64(w.n-1))
+			}
+			out.Stats = append(out.Stats, st)
 		}
-		st := Stat{Name: c.Stat, Key: c.Key, Unit: c.Unit, N: w.n, Mean: w.mean, Min: w.min, Max: w.max, col: c}
-		if w.n > 1 {
-			st.SD = math.Sqrt(w.m2 / float64(w.n-1))
-		}
-		out.Stats = append(out.Stats, st)
 	}
 	return out
 }

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -315,4 +316,45 @@ func TestChannelsInAmperesAndVoltsPerMetre(t *testing.T) {
 	assert.InEpsilon(t, 300e3, v, 0.02)
 	_, ok = s.Rows[2].Value(shot.ColTestVoltage)
 	assert.False(t, ok)
+}
+
+// A ratio for a channel the file does not have is a warning naming the channels.
+func TestRatioForNoChannelWarns(t *testing.T) {
+	cfg := shot.NewConfig()
+	require.NoError(t, cfg.AddRatio("volts=1000"))
+	s := shot.Evaluate(record(t, 1.2, 8), "a.csv", cfg)
+	var texts []string
+	for _, w := range s.Rows[0].Warnings {
+		if w.Code == "ratio-unmatched" {
+			texts = append(texts, w.Text)
+		}
+	}
+	require.Len(t, texts, 1)
+	assert.Contains(t, texts[0], `"volts"`)
+	assert.Contains(t, texts[0], "divider, coil")
+	require.NoError(t, cfg.AddRatio("ch1=2"))
+	v, _ := shot.Evaluate(record(t, 1.2, 8), "a.csv", cfg).Rows[0].Value(shot.ColTestVoltage)
+	assert.InEpsilon(t, 600e3, v, 0.01, "CHn in either case")
+}
+
+// Positive and negative impulses, and lightning and switching ones, are never pooled in
+// one statistic.
+func TestStatisticsPerFamilyAndPolarity(t *testing.T) {
+	series := shot.NewSeries("")
+	for i, s := range []synth.Spec{
+		{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, PreTrigger_s: 4e-6, Interval_s: 10e-9, Duration_s: 120e-6},
+		{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, PreTrigger_s: 4e-6, Interval_s: 10e-9, Duration_s: 120e-6, Negative: true},
+		{Switching: true, Front_s: 250e-6, Tail_s: 2500e-6, Peak_v: 300e3, PreTrigger_s: 100e-6, Interval_s: 0.5e-6, Duration_s: 7e-3},
+	} {
+		rec, err := synth.Generate(s)
+		require.NoError(t, err)
+		series.Add(shot.Evaluate(rec, fmt.Sprint(i), shot.NewConfig()))
+	}
+	groups := map[string]int{}
+	for _, st := range series.Summary().Stats {
+		if st.Key == "time_to_half_s" {
+			groups[st.Group] = st.N
+		}
+	}
+	assert.Equal(t, map[string]int{"lightning, positive": 1, "lightning, negative": 1, "switching, positive": 1}, groups)
 }
