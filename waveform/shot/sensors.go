@@ -34,6 +34,16 @@ type CoilSetup struct {
 // Model returns the coil's circuit model. A calibration factor k (A per V s) is the
 // same circuit with M = 1/k, R = 1 and L = the coil's L/R.
 func (c *CoilSetup) Model() (probe.Coil, error) {
+	for _, q := range []struct {
+		key, unit string
+		q         Quantity
+	}{{"mutual", "H", c.Mutual}, {"distance", "m", c.Distance}, {"height", "m", c.Height}, {"inner", "m", c.Inner}, {"outer", "m", c.Outer},
+		{"radius", "m", c.Radius}, {"inductance", "H", c.Inductance}, {"resistance", "ohm", c.Resistance}, {"load_resistance", "ohm", c.LoadResistance},
+		{"load_capacitance", "F", c.LoadCapacitance}, {"bandwidth", "Hz", c.Bandwidth}} {
+		if err := q.q.in(q.key, q.unit); err != nil {
+			return probe.Coil{}, err
+		}
+	}
 	if c.Calibration.Set {
 		if !(c.Calibration.V > 0) {
 			return probe.Coil{}, fmt.Errorf("calibration must be positive (A per V s)")
@@ -109,6 +119,15 @@ type AntennaSetup struct {
 
 // Model returns the antenna's circuit model.
 func (a *AntennaSetup) Model() (probe.Antenna, error) {
+	for _, q := range []struct {
+		key, unit string
+		q         Quantity
+	}{{"height", "m", a.Height}, {"radius", "m", a.Radius}, {"effective_height", "m", a.EffectiveHeight}, {"capacitance", "F", a.Capacitance},
+		{"load_resistance", "ohm", a.LoadResistance}, {"load_capacitance", "F", a.LoadCapacitance}, {"tail_start", "s", a.TailStart}} {
+		if err := q.q.in(q.key, q.unit); err != nil {
+			return probe.Antenna{}, err
+		}
+	}
 	m := probe.Antenna{R_ohm: a.LoadResistance.V, CL_f: a.LoadCapacitance.V, TailStart_s: a.TailStart.V}
 	switch a.DroopTau {
 	case "estimate":
@@ -198,7 +217,12 @@ func parseKV(s string, qs map[string]*Quantity, words map[string]*string, extra 
 		k, v := strings.TrimSpace(p[:i]), strings.TrimSpace(p[i+1:])
 		switch {
 		case qs[k] != nil:
-			if err := qs[k].UnmarshalTOML(v); err != nil {
+			// as in the setup file: a bare number is in SI, anything else carries a unit
+			var x any = v
+			if f, err := strconv.ParseFloat(v, 64); err == nil {
+				x = f
+			}
+			if err := qs[k].UnmarshalTOML(x); err != nil {
 				return nil, fmt.Errorf("%s: %v", k, err)
 			}
 		case words[k] != nil:

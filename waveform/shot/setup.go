@@ -21,10 +21,12 @@ import (
 const SetupFileName = "hvshot.toml"
 
 // Quantity is a number in SI, written in the setup file either as a bare number or as
-// a string with a unit: 300e3, "300 kV", "2 ns", "1 Mohm".
+// a string with a unit: 300e3, "300 kV", "2 ns", "1 Mohm". A string must carry its
+// unit: "300" is refused, so that nobody's kilovolts become volts.
 type Quantity struct {
-	V   float64
-	Set bool
+	V    float64
+	Set  bool
+	Unit string // the SI unit the text gave; "" for a bare number
 }
 
 // UnmarshalTOML reads a bare number or a string with a unit.
@@ -35,11 +37,14 @@ func (q *Quantity) UnmarshalTOML(v any) error {
 	case float64:
 		q.V = x
 	case string:
-		f, _, err := readers.ParseQuantity(x)
+		f, u, err := readers.ParseQuantity(x)
 		if err != nil {
 			return err
 		}
-		q.V = f
+		if u == "" {
+			return fmt.Errorf("%q has no unit: write it with one (\"300 kV\"), or as a bare number in SI (300e3)", x)
+		}
+		q.V, q.Unit = f, u
 	default:
 		return fmt.Errorf("want a number or a string with a unit, got %T", v)
 	}
@@ -47,6 +52,14 @@ func (q *Quantity) UnmarshalTOML(v any) error {
 		return fmt.Errorf("not a finite number")
 	}
 	q.Set = true
+	return nil
+}
+
+// in checks that the quantity, if given with a unit, has the one expected.
+func (q Quantity) in(key, unit string) error {
+	if q.Set && q.Unit != "" && q.Unit != unit {
+		return fmt.Errorf("%s: %s is not a unit of %s", key, q.Unit, map[string]string{"V": "voltage", "s": "time", "H": "inductance", "ohm": "resistance", "F": "capacitance", "m": "length", "Hz": "frequency"}[unit])
+	}
 	return nil
 }
 
@@ -207,6 +220,15 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	default:
 		return nil, bad(at("method", "force_shape"), "method.force_shape", "lightning-full, lightning-chopped or switching, not %q", s.Method.Shape)
 	}
+	for _, q := range []struct {
+		key, unit string
+		q         Quantity
+	}{{"nominal.test_voltage", "V", s.Nominal.TestVoltage}, {"generator.charging_voltage", "V", s.Generator.ChargingVoltage}, {"read.interval", "s", s.Read.Interval}} {
+		if err := q.q.in(q.key, q.unit); err != nil {
+			k := strings.Split(q.key, ".")
+			return nil, bad(at(k...), q.key, "%v", err)
+		}
+	}
 	if s.Generator.Stages < 0 {
 		return nil, bad(at("generator", "stages"), "generator.stages", "must be positive")
 	}
@@ -240,6 +262,12 @@ func (c *ChannelSetup) Check() error {
 	}
 	if c.Ratio.Set && !(c.Ratio.V != 0) {
 		return fmt.Errorf("ratio: must not be zero")
+	}
+	if c.Ratio.Unit != "" {
+		return fmt.Errorf("ratio: a plain number (1000), not %s", c.Ratio.Unit)
+	}
+	if err := c.DroopTau.in("droop_tau", "s"); err != nil {
+		return err
 	}
 	switch c.Role {
 	case Coil:

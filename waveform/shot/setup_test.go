@@ -46,3 +46,23 @@ func TestDemoSetupParses(t *testing.T) {
 	assert.Equal(t, 8, c.Stages)
 	assert.InDelta(t, 22e3, c.Charging_v, 1e-9)
 }
+
+// Units are checked: a string without one, or one of another quantity, is refused
+// naming the key and the line.
+func TestSetupUnits(t *testing.T) {
+	for _, c := range []struct{ text, want string }{
+		{"[nominal]\ntest_voltage = \"300\"\n", "s.toml:2"},
+		{"[nominal]\ntest_voltage = \"300 kA\"\n", "not a unit of voltage"},
+		{"[generator]\nstages = 8\ncharging_voltage = \"22 us\"\n", "not a unit of voltage"},
+		{"[read]\ninterval = \"2 kV\"\n", "not a unit of time"},
+		{"[[channel]]\nindex = 1\nrole = \"divider\"\nratio = \"1000 V\"\n", "ratio: a plain number"},
+		{"[[channel]]\nindex = 2\nrole = \"coil\"\n[channel.coil]\nmutual = \"1 nF\"\nload_resistance = 50\n", "not a unit of inductance"},
+	} {
+		_, err := shot.ParseSetup([]byte(c.text), "s.toml")
+		require.Error(t, err, c.text)
+		assert.Contains(t, err.Error(), c.want, c.text)
+	}
+	s, err := shot.ParseSetup([]byte("[nominal]\ntest_voltage = 300e3\n[generator]\ncharging_voltage = \"22 kV\"\n"), "s.toml")
+	require.NoError(t, err)
+	assert.InDelta(t, 300e3, s.Nominal.TestVoltage.V, 1e-9, "a bare number is in SI")
+}
