@@ -5,6 +5,7 @@ import (
 	"context"
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"os"
 	"os/signal"
@@ -88,7 +89,15 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if err != nil {
 		return e.usage(name, "--plots: %v", err)
 	}
+	if o.jobs < 1 {
+		return e.usage(name, "--jobs: at least 1, not %d", o.jobs)
+	}
 	cfg, rd, err := configure(o, inputs)
+	var se *shot.SetupError
+	if errors.As(err, &se) {
+		fmt.Fprintf(e.stderr, "hvshot %s: %v\nThe setup file's keys and units are in docs/setup.md.\n", name, err)
+		return exitUsage
+	}
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
@@ -108,7 +117,8 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		return e.fail(name, err)
 	}
 	if len(skipped) > 0 && !o.quiet {
-		fmt.Fprintf(e.stderr, "hvshot analyze: skipped %d %s that %s not captures: %s\n", len(skipped), plural(len(skipped), "file"), map[bool]string{true: "is", false: "are"}[len(skipped) == 1], strings.Join(skipped, ", "))
+		what := map[bool]string{true: "file that is not a capture", false: "files that are not captures"}[len(skipped) == 1]
+		fmt.Fprintf(e.stderr, "hvshot analyze: skipped %d %s: %s\n", len(skipped), what, strings.Join(skipped, ", "))
 	}
 	if len(files) == 0 {
 		return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
@@ -131,7 +141,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		prog.Step(i + 1)
 	})
 	sum := series.Summary()
-	sum.Interrupted = interrupted
+	sum.Interrupted, sum.Command = interrupted, e.command
 	if o.format == "table" {
 		report.Table(e.stdout, rows)
 		fmt.Fprintln(e.stdout)

@@ -122,7 +122,7 @@ func TestWatchWaitsForCompleteFiles(t *testing.T) {
 	done := make(chan int)
 	var stdout, stderr bytes.Buffer
 	go func() {
-		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &env{nil, &stdout, &stderr})
+		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &env{stdout: &stdout, stderr: &stderr})
 	}()
 	p := filepath.Join(dir, "slow.csv")
 	// written in two parts 1.5 s apart, as a slow copy over the network would
@@ -211,4 +211,41 @@ func TestLabScriptCaptures(t *testing.T) {
 		"../../testdata/readers/lab_pandas_time_s_voltage_v_lowside.csv")
 	assert.Equal(t, exitOutOfTol, code)
 	assert.Contains(t, out, "ratio-missing")
+}
+
+// The report says how it was made: the command and the ratios it set; synth never
+// replaces a file unasked; a setup file's error points to its documentation; --jobs 0
+// is refused.
+func TestRunIsRecordedAndSmallMistakes(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "low.csv")
+	code, _, stderr := runCmd("synth", "--ratio", "1000", "--out", p)
+	require.Equal(t, exitOK, code, stderr)
+	before := mustRead(t, p)
+	code, _, stderr = runCmd("synth", "--seed", "2", "--out", p)
+	assert.Equal(t, exitUsage, code)
+	assert.Contains(t, stderr, "exists; use --force")
+	assert.Equal(t, before, mustRead(t, p), "not replaced")
+	code, _, _ = runCmd("synth", "--seed", "2", "--force", "--out", p)
+	assert.Equal(t, exitOK, code)
+
+	out := filepath.Join(dir, "out")
+	code, _, stderr = runCmd("analyze", "--quiet", "--plots", "none", "--ratio", "1000", "--out", out, p)
+	require.Equal(t, exitOK, code, stderr)
+	html := string(mustRead(t, filepath.Join(out, "report.html")))
+	assert.Contains(t, html, "every divider channel x 1000")
+	assert.Contains(t, html, "hvshot analyze --quiet --plots none --ratio 1000")
+	var sum shot.Summary
+	require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
+	assert.Equal(t, []string{"hvshot", "analyze", "--quiet", "--plots", "none", "--ratio", "1000", "--out", out, p}, sum.Command)
+
+	setup := filepath.Join(dir, "s.toml")
+	require.NoError(t, os.WriteFile(setup, []byte("[nominal]\ntest_voltage = \"300\"\n"), 0o644))
+	code, _, stderr = runCmd("analyze", "--setup", setup, p)
+	assert.Equal(t, exitUsage, code)
+	assert.Contains(t, stderr, "s.toml:2")
+	assert.Contains(t, stderr, "docs/setup.md")
+	code, _, stderr = runCmd("analyze", "--jobs", "0", p)
+	assert.Equal(t, exitUsage, code)
+	assert.Contains(t, stderr, "--jobs: at least 1")
 }

@@ -57,6 +57,7 @@ func helpText(name string) string {
 type env struct {
 	stdin          io.Reader
 	stdout, stderr io.Writer
+	command        []string // as typed, for the report's record of how it was made
 }
 
 var commands []*command
@@ -66,7 +67,7 @@ func main() {
 }
 
 func run(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
-	e := &env{stdin, stdout, stderr}
+	e := &env{stdin: stdin, stdout: stdout, stderr: stderr}
 	if len(args) == 0 {
 		fmt.Fprint(stderr, usage())
 		return exitUsage
@@ -133,6 +134,7 @@ func (c *command) run(args []string, e *env) int {
 		}
 		return e.usage(c.name, "%s", msg)
 	}
+	e.command = append([]string{"hvshot", c.name}, args...)
 	return do(fs.Args(), e)
 }
 

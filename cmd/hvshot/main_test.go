@@ -267,7 +267,7 @@ func TestWatchPicksUpNewFile(t *testing.T) {
 	done := make(chan int)
 	var stdout, stderr bytes.Buffer
 	go func() {
-		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &env{nil, &stdout, &stderr})
+		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &env{stdout: &stdout, stderr: &stderr})
 	}()
 	time.Sleep(300 * time.Millisecond)
 	// copy a capture in: written elsewhere, then moved, as a scope's save would land

@@ -83,6 +83,7 @@ func synthCommand(fs *flag.FlagSet) func([]string, *env) int {
 	format := fs.String("format", "text", "text, npy or raw (raw also writes FILE.hvraw) (`FORMAT`)")
 	out := fs.StringP("out", "o", "", "`FILE` to write, - for stdout (required)")
 	seed := fs.String("seed", "1", "random seed, decimal; the same seed gives the same file (`N`)")
+	force := fs.Bool("force", false, "replace an existing file")
 	qs := map[string]*string{}
 	for _, q := range [][3]string{{"peak", "300kV", "peak voltage"}, {"chop", "", "chop this long after the start of the impulse, e.g. 3us"},
 		{"collapse", "100ns", "duration of the collapse at a chop"}, {"ring-freq", "", "damped oscillation frequency, e.g. 1MHz"},
@@ -146,6 +147,9 @@ func synthCommand(fs *flag.FlagSet) func([]string, *env) int {
 				return e.fail("synth", err)
 			}
 			return exitOK
+		}
+		if _, err := os.Stat(*out); err == nil && !*force {
+			return e.usage("synth", "%s exists; use --force to replace it", *out)
 		}
 		if err := writeCapture(*out, *format, rec); err != nil {
 			return e.fail("synth", err)

@@ -75,8 +75,10 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 			shots[in.path] = got
 			for _, sh := range got {
 				printRows(e, o.format, csvOut, sh.Rows)
-				if o.format == "table" {
-					report.Table(e.stdout, sh.Rows)
+				for i := range sh.Rows {
+					if o.format == "table" {
+						fmt.Fprintln(e.stdout, report.Line(&sh.Rows[i]))
+					}
 				}
 			}
 		})
@@ -89,14 +91,16 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 					rows = append(rows, sh.Rows...)
 				}
 			}
-			if err := writeOutputs(w, rows, series.Summary()); err != nil {
+			sum := series.Summary()
+			sum.Command = e.command
+			if err := writeOutputs(w, rows, sum); err != nil {
 				return e.fail("watch", fmt.Errorf("writing outputs: %w", err))
 			}
 		}
 		select {
 		case <-ctx.Done():
 			if !o.quiet {
-				fmt.Fprintf(e.stderr, "stopped; %d files evaluated, report: %s\n", len(order), filepath.Join(w.out.Path, "report.html"))
+				fmt.Fprintf(e.stderr, "stopped; %d %s evaluated, report: %s\n", len(order), plural(len(order), "file"), filepath.Join(w.out.Path, "report.html"))
 			}
 			return exitInterrupted
 		case <-tick.C:

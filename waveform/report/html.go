@@ -76,6 +76,8 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 <dt>Tolerances</dt><dd>{{.Tolerances}}</dd>
 <dt>Overshoot</dt><dd>relative to {{.Over}}</dd>
 <dt>Setup</dt><dd>{{if .SetupPath}}{{.SetupPath}}{{else}}none: every channel a divider channel in volts unless a role was given{{end}}</dd>
+{{if .Ratios}}<dt>Ratios</dt><dd>{{.Ratios}}</dd>{{end}}
+{{if .Command}}<dt>Command</dt><dd><code>{{.Command}}</code></dd>{{end}}
 <dt>Made</dt><dd>{{.When}} by hvshot {{.Version}}</dd>
 </dl>
 </header>
@@ -255,10 +257,28 @@ func HTML(w io.Writer, p Page) error {
 		"Title": title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
-		"Safety": Safety, "Plot": plot, "Synthetic": syn,
+		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": strings.Join(s.Command, " "), "Ratios": ratios(cfg),
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path
 	}
 	return reportTmpl.Execute(w, data)
+}
+
+// ratios says which divider ratios the command line set, which otherwise only the
+// results would show the effect of.
+func ratios(cfg *shot.Config) string {
+	var out []string
+	if cfg.Ratio != 0 {
+		out = append(out, "every divider channel x "+strconv.FormatFloat(cfg.Ratio, 'g', -1, 64))
+	}
+	keys := make([]string, 0, len(cfg.Ratios))
+	for k := range cfg.Ratios {
+		keys = append(keys, k)
+	}
+	sort.Strings(keys)
+	for _, k := range keys {
+		out = append(out, k+" x "+strconv.FormatFloat(cfg.Ratios[k], 'g', -1, 64))
+	}
+	return strings.Join(out, "; ")
 }

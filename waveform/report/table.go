@@ -100,6 +100,25 @@ func Table(w io.Writer, rows []shot.Row) {
 	tw.Flush()
 }
 
+// Line is one row on one line, for a stream of results (watch): the shot, channel,
+// shape and polarity, each number of the per-shot table present, the verdict and why.
+func Line(r *shot.Row) string {
+	parts := []string{r.File, dash(r.Channel)}
+	if r.Shape != "" {
+		parts = append(parts, string(r.Shape), polWord(r.Polarity))
+	}
+	for _, c := range consoleColumns() {
+		if v, ok := r.Value(c); ok {
+			parts = append(parts, strings.TrimSpace(c.Label+" "+c.Format(v)+" "+c.Screen))
+		}
+	}
+	parts = append(parts, r.Verdict.Word())
+	if why := Why(r); why != "" {
+		parts = append(parts, why)
+	}
+	return strings.Join(parts, "  ")
+}
+
 // StatCells are a statistic's mean, sd, min and max in its column's screen unit.
 func StatCells(s shot.Stat) (mean, sd, lo, hi, unit string) {
 	c := s.Column()

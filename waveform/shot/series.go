@@ -37,6 +37,8 @@ type Summary struct {
 	Incomplete  int    `json:"incomplete"` // rows whose compliance could not be shown
 	Stats       []Stat `json:"stats"`
 	Interrupted bool   `json:"interrupted,omitempty"`
+	// Command is how the run was started, for the record (set by the caller).
+	Command []string `json:"command,omitempty"`
 }
 
 // Series accumulates shots into a Summary without keeping them: its memory does not
