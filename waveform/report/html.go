@@ -208,16 +208,20 @@ func HTML(w io.Writer, p Page) error {
 	tolerances := "test voltage ±" + f(t.TestVoltage_pct) + " %; lightning T1 ±" + f(t.Front_pct) + " %, T2 ±" + f(t.Tail_pct) + " %, overshoot at most " + f(t.OvershootMax_pct) + " %; switching Tp ±" + f(t.TimeToPeak_pct) + " %, T2 ±" + f(t.SwitchingTail_pct) + " %"
 	s := p.Summary
 	outcome, class := "every shot evaluated and within tolerance", "pass"
-	if s.Incomplete > 0 {
-		outcome, class = strconv.Itoa(s.Incomplete)+" channel rows incomplete: compliance not shown", "incomplete"
+	var parts []string
+	for _, p := range []struct {
+		n           int
+		what, class string
+	}{{s.Fail, "out of tolerance", "fail"}, {s.Incomplete, "incomplete (compliance not shown)", "incomplete"}, {s.Errors, "not evaluated", "error"}} {
+		if p.n > 0 {
+			if len(parts) == 0 {
+				class = p.class
+			}
+			parts = append(parts, strconv.Itoa(p.n)+" "+map[bool]string{true: "channel row", false: "channel rows"}[p.n == 1]+" "+p.what)
+		}
 	}
-	switch {
-	case s.Errors > 0 && s.Fail > 0:
-		outcome, class = strconv.Itoa(s.Fail)+" channel rows out of tolerance, "+strconv.Itoa(s.Errors)+" not evaluated", "fail"
-	case s.Errors > 0:
-		outcome, class = strconv.Itoa(s.Errors)+" channel rows not evaluated; the others within tolerance", "error"
-	case s.Fail > 0:
-		outcome, class = strconv.Itoa(s.Fail)+" channel rows out of tolerance", "fail"
+	if len(parts) > 0 {
+		outcome = strings.Join(parts, ", ")
 	}
 	if s.Interrupted {
 		outcome += " (interrupted: not every shot is here)"

@@ -48,14 +48,18 @@ func Why(r *shot.Row) string {
 	for _, f := range r.Failures {
 		p = append(p, f.String())
 	}
-	why := strings.Join(p, "; ")
 	var codes []string
 	for _, w := range r.Warnings {
-		// the droop sensitivity is a figure every antenna row carries, not a concern
-		if w.Code != "tau-sensitivity" {
+		switch w.Code {
+		case "tau-sensitivity":
+			// a figure every antenna row carries, not a concern
+		case "not-measured":
+			p = append(p, w.Text) // the reason of an incomplete verdict, in words
+		default:
 			codes = append(codes, w.Code)
 		}
 	}
+	why := strings.Join(p, "; ")
 	if len(codes) > 0 {
 		if why != "" {
 			why += "; "

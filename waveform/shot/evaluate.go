@@ -238,9 +238,14 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		row.Verdict = Incomplete
 	}
 	if len(row.Unmeasured) > 0 {
-		var why []string
+		// the parameters grouped by their reason: "(the record is clipped): front_time, ..."
+		byWhy := map[string][]string{}
 		for _, p := range row.Unmeasured {
-			why = append(why, p+" ("+unmeasured[p]+")")
+			byWhy[unmeasured[p]] = append(byWhy[unmeasured[p]], p)
+		}
+		var why []string
+		for _, w := range slices.Sorted(maps.Keys(byWhy)) {
+			why = append(why, strings.Join(byWhy[w], ", ")+" ("+w+")")
 		}
 		row.Warnings = append(row.Warnings, Warning{"not-measured", "compliance not shown: " + strings.Join(why, "; ")})
 	}
