@@ -3,6 +3,7 @@ package readers
 import (
 	"errors"
 	"fmt"
+	"runtime"
 	"strings"
 	"testing"
 
@@ -86,4 +87,32 @@ func TestTriggerPointSetsStart(t *testing.T) {
 	require.NoError(t, err)
 	assert.InDelta(t, -2.5e-6, rec.Start_s, 1e-15)
 	assert.InDelta(t, 0, rec.Time_s(250), 1e-15)
+}
+
+// Blank lines inside the data are counted, not remembered one by one: ten million of
+// them cost what five million do (the head the dialect is read from is bounded), and a
+// line after them is still named rightly.
+func TestBlankLinesCostNoMemory(t *testing.T) {
+	alloc := func(blanks int) uint64 {
+		var b strings.Builder
+		b.WriteString("t,U\n")
+		for i := 0; i < 8; i++ {
+			fmt.Fprintf(&b, "%g,%d\n", float64(i)*1e-9, i)
+		}
+		b.WriteString(strings.Repeat("\n", blanks))
+		fmt.Fprintf(&b, "8e-9,NaN\n")
+		data := b.String()
+		var before, after runtime.MemStats
+		runtime.GC()
+		runtime.ReadMemStats(&before)
+		_, err := ReadText(strings.NewReader(data), "x.csv", TextOptions{})
+		runtime.ReadMemStats(&after)
+		require.Error(t, err)
+		var pe *ParseError
+		require.True(t, errors.As(err, &pe))
+		assert.Equal(t, 1+8+blanks+1, pe.Line, "the line after the blanks")
+		return after.TotalAlloc - before.TotalAlloc
+	}
+	five, ten := alloc(5_000_000), alloc(10_000_000)
+	assert.Less(t, float64(ten), 1.1*float64(five)+(1<<20), "5 M blank lines: %d bytes, 10 M: %d", five, ten)
 }

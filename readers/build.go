@@ -3,7 +3,6 @@ package readers
 import (
 	"fmt"
 	"math"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -155,7 +154,7 @@ func (p *plan) build(rr *rowReader, opt TextOptions, file string) (*waveform.Rec
 	d := p.d
 	cols := rr.cols
 	rows := len(cols[0])
-	lineOf := func(row int) int { return d.DataLine + row + sort.SearchInts(rr.skips, row+1) }
+	lineOf := func(row int) int { return d.DataLine + row + rr.skips.before(row) }
 	rec := &waveform.Record{Source: file, Format: "text (" + d.String() + ")", Meta: p.pre.meta, Trigger: p.pre.trigger}
 	rec.Warnings = append(rec.Warnings, p.pre.warnings...)
 	rec.Notes = append(rec.Notes, p.notes...)

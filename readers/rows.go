@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"sort"
 )
 
 // Sentinel causes of the layouts this file and layouts.go read.
@@ -115,7 +116,7 @@ type rowReader struct {
 	file  string
 	cols  [][]float64
 	row   []float64
-	skips []int // row indices before which a line was skipped or dropped
+	skips skipped // lines skipped or dropped, by the row they came before
 
 	nfull              int
 	lead, leadFrom     int
@@ -158,7 +159,7 @@ func newRowReader(p *plan, file string, sizeHint int64, head []sniffLine) *rowRe
 func (rr *rowReader) add(line []byte, no int) error {
 	if len(line) == 0 || !startsNumber(line[0]) {
 		if isBlank(line) || isComment(line) {
-			rr.skips = append(rr.skips, len(rr.cols[0]))
+			rr.skips.add(len(rr.cols[0]))
 			return nil
 		}
 	}
@@ -220,8 +221,33 @@ func (rr *rowReader) edge(no, col int) error {
 		rr.pend++
 		rr.pendTo = no
 	}
-	rr.skips = append(rr.skips, len(rr.cols[0]))
+	rr.skips.add(len(rr.cols[0]))
 	return nil
+}
+
+// skipped counts the lines skipped before each row, in runs: a million blank lines in a
+// row cost one entry, not a million (memory bounded by the data, not the blank lines).
+type skipped []struct{ row, total int } // total: lines skipped up to and with this run
+
+func (s *skipped) add(row int) {
+	if n := len(*s); n > 0 && (*s)[n-1].row == row {
+		(*s)[n-1].total++
+		return
+	}
+	t := 1
+	if n := len(*s); n > 0 {
+		t = (*s)[n-1].total + 1
+	}
+	*s = append(*s, struct{ row, total int }{row, t})
+}
+
+// before is the number of lines skipped before row (0-based) was read.
+func (s skipped) before(row int) int {
+	i := sort.Search(len(s), func(i int) bool { return s[i].row > row })
+	if i == 0 {
+		return 0
+	}
+	return s[i-1].total
 }
 
 // scanKeep reads the fields listed in keep (ascending) of one row into dst, in the
