@@ -101,6 +101,21 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
+	// the captures first: no output folder is made for a run that has nothing to read
+	var files []input
+	if !watch {
+		var skipped []string
+		if files, skipped, err = collectFiles(inputs, o.out); err != nil {
+			return e.fail(name, err)
+		}
+		if len(skipped) > 0 && !o.quiet {
+			what := map[bool]string{true: "file that is not a capture", false: "files that are not captures"}[len(skipped) == 1]
+			fmt.Fprintf(e.stderr, "hvshot analyze: skipped %d %s: %s\n", len(skipped), what, strings.Join(skipped, ", "))
+		}
+		if len(files) == 0 {
+			return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
+		}
+	}
 	out, err := outputFolder(o.out, inputs, o.force || watch)
 	if err != nil {
 		return e.usage(name, "%v", err)
@@ -111,17 +126,6 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	w := &worker{cfg: cfg, read: rd, out: out, plots: plots}
 	if watch {
 		return watchDir(ctx, inputs[0], w, o, e)
-	}
-	files, skipped, err := collectFiles(inputs, out.Path)
-	if err != nil {
-		return e.fail(name, err)
-	}
-	if len(skipped) > 0 && !o.quiet {
-		what := map[bool]string{true: "file that is not a capture", false: "files that are not captures"}[len(skipped) == 1]
-		fmt.Fprintf(e.stderr, "hvshot analyze: skipped %d %s: %s\n", len(skipped), what, strings.Join(skipped, ", "))
-	}
-	if len(files) == 0 {
-		return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
 	}
 	series := shot.NewSeries(cfg.Series)
 	var rows []shot.Row
@@ -162,10 +166,6 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	return exitStatus(sum)
 }
 
-func plural(n int, word string) string {
-	if n == 1 {
-		return word
-	}
 	return word + "s"
 }
 

@@ -24,7 +24,10 @@ type input struct{ path, id string }
 // collectFiles finds the captures (see readers.Find), leaving out setup files, the
 // output folder and earlier output folders, and gives each its identity.
 func collectFiles(args []string, outDir string) (files []input, skipped []string, err error) {
-	absOut, _ := filepath.Abs(outDir)
+	absOut := ""
+	if outDir != "" {
+		absOut, _ = filepath.Abs(outDir)
+	}
 	paths, skipped, err := readers.Find(args, func(p string, d fs.DirEntry) bool {
 		if !d.IsDir() {
 			return d.Name() == shot.SetupFileName

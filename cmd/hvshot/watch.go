@@ -100,7 +100,7 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 		select {
 		case <-ctx.Done():
 			if !o.quiet {
-				fmt.Fprintf(e.stderr, "stopped; %d %s evaluated, report: %s\n", len(order), plural(len(order), "file"), filepath.Join(w.out.Path, "report.html"))
+				fmt.Fprintf(e.stderr, "stopped; %d %s evaluated, report: %s\n", len(order), map[bool]string{true: "file", false: "files"}[len(order) == 1], filepath.Join(w.out.Path, "report.html"))
 			}
 			return exitInterrupted
 		case <-tick.C:
