@@ -166,9 +166,6 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	return exitStatus(sum)
 }
 
-	return word + "s"
-}
-
 // printRows streams finished rows to stdout as csv or jsonl.
 func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
 	for i := range rows {
