@@ -398,7 +398,13 @@ func (a Antenna) Field(v []float64, t0, dt float64) (*FieldResult, error) {
 		for i, s := range v {
 			x[i] = s - bl.Level
 		}
-		t, rms, err := EstimateDroop(x, dt, a.TailStart_s-t0, bl.NoiseRMS)
+		// 0: automatic, from the impulse itself; not t = 0, which on a record that
+		// starts before zero lies inside the rise
+		start := 0.0
+		if a.TailStart_s != 0 {
+			start = a.TailStart_s - t0
+		}
+		t, rms, err := EstimateDroop(x, dt, start, bl.NoiseRMS)
 		if err != nil {
 			return nil, err
 		}
