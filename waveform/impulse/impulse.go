@@ -51,6 +51,10 @@ type Settings struct {
 	SwitchingSmooth float64
 	// MinSNR: an extreme below this many noise RMS is no impulse (ours: 10).
 	MinSNR float64
+	// PolarityRun: this many samples in a row beyond the noise and a tenth of the
+	// largest excursion, of one sign, give the impulse's polarity (ours: 3, so a lone
+	// glitch does not).
+	PolarityRun int
 	// ForceShape overrides the classification when not empty.
 	ForceShape Shape
 }
@@ -62,7 +66,7 @@ func DefaultSettings() Settings {
 		LightningMaxFront_s: 20e-6, ChopDrop: 0.4,
 		CollapseHigh: 0.7, CollapseLow: 0.1,
 		SwitchingK0: 2.42, SwitchingK1: -3.08e-3, SwitchingK2: 1.51e-4,
-		SwitchingSmooth: 0.1, MinSNR: 10,
+		SwitchingSmooth: 0.1, MinSNR: 10, PolarityRun: 3,
 	}
 }
 
@@ -145,19 +149,8 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	}
 	r.Baseline = bl
 	r.Noise_v = bl.NoiseRMS
-	// polarity: the larger excursion from the baseline
-	hi, lo := x[0], x[0]
-	for _, v := range x {
-		if v > hi {
-			hi = v
-		} else if v < lo {
-			lo = v
-		}
-	}
-	r.Polarity = 1
-	if bl.Level-lo > hi-bl.Level {
-		r.Polarity = -1
-	}
+	noise := math.Max(bl.NoiseRMS, diffNoise)
+	r.Polarity = frontPolarity(x, bl.Level, noise, s.PolarityRun)
 	y := make([]float64, n)
 	for i, v := range x {
 		y[i] = float64(r.Polarity) * (v - bl.Level)
@@ -165,7 +158,13 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	r.Recorded = y
 	ip, ue := waveform.ArgMax(y, 0, n)
 	r.Extreme_v = ue
-	noise := math.Max(bl.NoiseRMS, diffNoise)
+	lo := 0.0
+	for _, v := range y {
+		lo = math.Min(lo, v)
+	}
+	if lo < -0.5*ue && ue > 0 {
+		r.warn("opposite-excursion", "the record swings to the opposite polarity by %.0f %% of the peak (an undershoot after a chop, or ringing): the polarity is the front's", -100*lo/ue)
+	}
 	if !(ue > 0) || ue < s.MinSNR*noise {
 		return nil, fmt.Errorf("%w: the largest excursion (%.3g V) is within %.0f x the noise (%.3g V RMS)", ErrNoImpulse, ue, s.MinSNR, noise)
 	}
@@ -358,6 +357,39 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		}
 	}
 	return r, nil
+}
+
+// frontPolarity is the sign of the first excursion that grows out of the noise into the
+// impulse: the first run of samples beyond both 10 noise RMS and a tenth of the record's
+// largest excursion, all of one sign. The largest sample's sign would take an undershoot
+// after a chop, larger than the impulse, for the impulse itself.
+func frontPolarity(x []float64, level, noise float64, run int) int {
+	big := 0.0
+	for _, v := range x {
+		big = math.Max(big, math.Abs(v-level))
+	}
+	thr := math.Max(10*noise, 0.1*big)
+	k, sign := 0, 0
+	for _, v := range x {
+		d := v - level
+		switch {
+		case d > thr && sign >= 0:
+			k, sign = k+1, 1
+		case d < -thr && sign <= 0:
+			k, sign = k+1, -1
+		case math.Abs(d) > thr:
+			k, sign = 1, -sign // a run of the other sign starts
+		default:
+			k, sign = 0, 0
+		}
+		if k >= run {
+			return sign
+		}
+	}
+	if sign != 0 {
+		return sign
+	}
+	return 1
 }
 
 // collapse locates the points C and D of a chop and the instant of chopping.

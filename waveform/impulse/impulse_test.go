@@ -316,3 +316,47 @@ func BenchmarkEvaluate100k(b *testing.B) {
 		}
 	}
 }
+
+// A tail-chopped impulse whose undershoot after the collapse is larger than its peak
+// (1.17 x) is still positive: the polarity is the front's. Its T1 is the handbook
+// shape's (SciPy brentq on the closed form, testdata/reference/impulse_refs.py) and its
+// time to chopping the chop's, as constructed.
+func TestPolarityFromTheFront(t *testing.T) {
+	refs, _ := loadRefs(t)
+	hb := refs["handbook-lightning"]
+	dt, td := 5e-9, 2e-6
+	tc, coll := td+3e-6, 0.1e-6
+	u := 300e3 / hb.PeakFactor
+	x := make([]float64, 30000)
+	var uc float64
+	for i := range x {
+		tt := float64(i) * dt
+		s := tt - td
+		v := 0.0
+		if s > 0 {
+			v = u * (math.Exp(-s/hb.Tau1) - math.Exp(-s/hb.Tau2))
+		}
+		switch {
+		case tt < tc:
+			uc = v
+		case tt < tc+coll:
+			// linear collapse from the voltage at chopping to -1.17 x the peak
+			f := (tt - tc) / coll
+			v = uc + f*(-1.17*300e3-uc)
+		default:
+			v = -1.17 * 300e3 * math.Exp(-(tt-tc-coll)/2e-6) * math.Cos(2*math.Pi*0.5e6*(tt-tc-coll))
+		}
+		x[i] = v
+	}
+	r, err := Evaluate(x, 0, dt, DefaultSettings())
+	require.NoError(t, err)
+	assert.Equal(t, 1, r.Polarity)
+	assert.Equal(t, LightningChopped, r.Shape)
+	assert.InEpsilon(t, hb.T1, r.FrontTime_s, 0.01)
+	assert.InEpsilon(t, tc-(td+hb.O1), r.ChopTime_s, 0.03)
+	codes := ""
+	for _, w := range r.Warnings {
+		codes += w.Code + " "
+	}
+	assert.Contains(t, codes, "opposite-excursion")
+}
