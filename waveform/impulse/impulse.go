@@ -96,9 +96,13 @@ type Result struct {
 	ChopVoltage_v float64 // voltage at the instant of chopping
 	Collapse_s    float64 // duration of the voltage collapse
 	ChopInstant_s float64
-	TimeToPeak_s  float64 // Tp (switching)
-	TimeAbove90_s float64 // Td (switching)
-	TimeToZero_s  float64 // Tz (switching), from the true origin
+	// FrontChopped: chopped on the front, judged by its own quantities (time to
+	// chopping, voltage at chopping, steepness), not by a full impulse's T1 and overshoot.
+	FrontChopped      bool
+	Steepness_v_per_s float64 // front-chopped: the voltage at chopping over the time to chopping (from memory)
+	TimeToPeak_s      float64 // Tp (switching)
+	TimeAbove90_s     float64 // Td (switching)
+	TimeToZero_s      float64 // Tz (switching), from the true origin
 
 	// Instants of the defining points on the test voltage curve, for plots.
 	T30_s, T90_s, T50_s float64
@@ -133,7 +137,7 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	r := &Result{Start_s: t0, Interval_s: dt}
 	for _, p := range []*float64{&r.Extreme_v, &r.TestVoltage_v, &r.BasePeak_v, &r.Overshoot_pct, &r.FrontTime_s,
 		&r.TimeToHalf_s, &r.Origin_s, &r.ChopTime_s, &r.ChopVoltage_v, &r.Collapse_s, &r.ChopInstant_s,
-		&r.TimeToPeak_s, &r.TimeAbove90_s, &r.TimeToZero_s, &r.T30_s, &r.T90_s, &r.T50_s, &r.ResidualFreq_hz, &r.ResidualAmp_v} {
+		&r.TimeToPeak_s, &r.TimeAbove90_s, &r.TimeToZero_s, &r.T30_s, &r.T90_s, &r.T50_s, &r.ResidualFreq_hz, &r.ResidualAmp_v, &r.Steepness_v_per_s} {
 		*p = nan()
 	}
 	if n < waveform.MinSamples {
@@ -220,6 +224,12 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		if err := r.collapse(y, chopAt, w, s); err != nil {
 			return nil, err
 		}
+		// On the front: the curve still rises steeply into its extreme, which the
+		// collapse follows at once (ours: by 2 % of Ue over the last quarter of a front
+		// time); a chop on the crest or the tail has a flat or falling curve there.
+		k := max(2, w/4)
+		onset := int(math.Round((r.ChopInstant_s - t0) / dt))
+		r.FrontChopped = ip >= k && onset-ip <= k && y[ip]-y[ip-k] > 0.02*ue
 	}
 	end := n
 	if shape == LightningChopped {
@@ -349,6 +359,9 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		r.Origin_s = abs(a30) - 0.3*r.FrontTime_s
 		if shape == LightningChopped {
 			r.ChopTime_s = r.ChopInstant_s - r.Origin_s
+			if r.FrontChopped {
+				r.Steepness_v_per_s = r.ChopVoltage_v / r.ChopTime_s
+			}
 		} else if a50 := waveform.CrossDown(tv, 0.5*ut, itv, n); a50 >= 0 {
 			r.T50_s = abs(a50)
 			r.TimeToHalf_s = r.T50_s - r.Origin_s

@@ -360,3 +360,42 @@ func TestPolarityFromTheFront(t *testing.T) {
 	}
 	assert.Contains(t, codes, "opposite-excursion")
 }
+
+// A front-chopped impulse (the handbook shape, SciPy brentq references, chopped 0.68 us
+// after O1 while it still rises) is judged by its own quantities: its time to chopping
+// and voltage at chopping as constructed, its steepness their quotient (from memory),
+// and no failure on the full impulse's front time or overshoot.
+func TestFrontChoppedJudgedByItsOwnQuantities(t *testing.T) {
+	refs, _ := loadRefs(t)
+	hb := refs["handbook-lightning"]
+	dt, td := 2e-9, 2e-6
+	tc := td + hb.O1 + 0.68e-6
+	coll := 50e-9
+	u := 300e3 / hb.PeakFactor
+	dexp := func(tt float64) float64 {
+		if s := tt - td; s > 0 {
+			return u * (math.Exp(-s/hb.Tau1) - math.Exp(-s/hb.Tau2))
+		}
+		return 0
+	}
+	uc := dexp(tc)
+	x := make([]float64, 10000)
+	for i := range x {
+		tt := float64(i) * dt
+		switch {
+		case tt < tc:
+			x[i] = dexp(tt)
+		case tt < tc+coll:
+			x[i] = uc * (1 - (tt-tc)/coll)
+		}
+	}
+	r, err := Evaluate(x, 0, dt, DefaultSettings())
+	require.NoError(t, err)
+	require.Equal(t, LightningChopped, r.Shape)
+	assert.True(t, r.FrontChopped)
+	assert.InEpsilon(t, uc, r.ChopVoltage_v, 0.01)
+	assert.InEpsilon(t, r.ChopVoltage_v/r.ChopTime_s, r.Steepness_v_per_s, 1e-12)
+	nom := Nominal{Front_s: 1.2e-6, Tail_s: 50e-6, Chopped: true, Peak_v: uc}
+	assert.Empty(t, Judge(r, nom, DefaultTolerances()), "no full-impulse T1 or overshoot failure")
+	assert.Empty(t, Unmeasured(r, nom))
+}

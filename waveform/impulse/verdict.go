@@ -140,7 +140,9 @@ func Unmeasured(r *Result, nom Nominal) map[string]string {
 		need("time_to_half", r.TimeToHalf_s, "the record ends before the tail falls to 50 %")
 		need("overshoot", r.Overshoot_pct, "no base curve")
 	case LightningChopped:
-		need("front_time", r.FrontTime_s, "no front time")
+		if !r.FrontChopped {
+			need("front_time", r.FrontTime_s, "no front time")
+		}
 	}
 	for _, w := range r.Warnings {
 		switch w.Code {
@@ -153,11 +155,15 @@ func Unmeasured(r *Result, nom Nominal) map[string]string {
 			out["overshoot"] = "the base curve could not be fitted"
 		}
 	}
-	if r.Shape == Switching {
+	if r.Shape == Switching || r.FrontChopped {
 		delete(out, "front_time")
 		delete(out, "overshoot")
-	} else {
+	}
+	if r.Shape != Switching {
 		delete(out, "time_to_peak")
+	}
+	if r.Shape == LightningChopped {
+		delete(out, "time_to_half") // a chopped impulse has none to judge
 	}
 	if nom.Peak_v <= 0 {
 		delete(out, "test_voltage")
@@ -189,6 +195,9 @@ func Judge(r *Result, nom Nominal, tol Tolerances) []Failure {
 		band("time_to_peak", r.TimeToPeak_s, nom.Front_s, tol.TimeToPeak_pct, "s")
 		band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.SwitchingTail_pct, "s")
 	default:
+		if r.FrontChopped {
+			break // its own quantities: the front time and overshoot of the full impulse do not apply
+		}
 		band("front_time", r.FrontTime_s, nom.Front_s, tol.Front_pct, "s")
 		if r.Shape == LightningFull {
 			band("time_to_half", r.TimeToHalf_s, nom.Tail_s, tol.Tail_pct, "s")
