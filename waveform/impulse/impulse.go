@@ -51,6 +51,9 @@ type Settings struct {
 	SwitchingSmooth float64
 	// MinSNR: an extreme below this many noise RMS is no impulse (ours: 10).
 	MinSNR float64
+	// DriftMax: a baseline trend that reaches this fraction of Ue at the 50 % point is
+	// warned about, with its effect on Ut and T2 (ours: 0.01).
+	DriftMax float64
 	// PolarityRun: this many samples in a row beyond the noise and a tenth of the
 	// largest excursion, of one sign, give the impulse's polarity (ours: 3, so a lone
 	// glitch does not).
@@ -66,7 +69,7 @@ func DefaultSettings() Settings {
 		LightningMaxFront_s: 20e-6, ChopDrop: 0.4,
 		CollapseHigh: 0.7, CollapseLow: 0.1,
 		SwitchingK0: 2.42, SwitchingK1: -3.08e-3, SwitchingK2: 1.51e-4,
-		SwitchingSmooth: 0.1, MinSNR: 10, PolarityRun: 3,
+		SwitchingSmooth: 0.1, MinSNR: 10, PolarityRun: 3, DriftMax: 0.01,
 	}
 }
 
@@ -100,9 +103,12 @@ type Result struct {
 	// chopping, voltage at chopping, steepness), not by a full impulse's T1 and overshoot.
 	FrontChopped      bool
 	Steepness_v_per_s float64 // front-chopped: the voltage at chopping over the time to chopping (from memory)
-	TimeToPeak_s      float64 // Tp (switching)
-	TimeAbove90_s     float64 // Td (switching)
-	TimeToZero_s      float64 // Tz (switching), from the true origin
+	// DriftUt_pct, DriftT2_pct: how far the baseline's trend moves Ut and T2, in percent,
+	// when it reaches DriftMax of Ue at the 50 % point; NaN otherwise.
+	DriftUt_pct, DriftT2_pct float64
+	TimeToPeak_s             float64 // Tp (switching)
+	TimeAbove90_s            float64 // Td (switching)
+	TimeToZero_s             float64 // Tz (switching), from the true origin
 
 	// Instants of the defining points on the test voltage curve, for plots.
 	T30_s, T90_s, T50_s float64
@@ -188,9 +194,6 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	}
 	if bl.NoiseRMS > 0.02*ue {
 		r.warn("baseline-noisy", "baseline noise %.2g %% of the extreme value", 100*bl.NoiseRMS/ue)
-	}
-	if pre > 16 && math.Abs(bl.Slope)*float64(pre) > math.Max(3*bl.NoiseRMS, 0.005*ue) {
-		r.warn("baseline-drift", "the baseline drifts by %.2g %% of the extreme across the pre-trigger part", 100*math.Abs(bl.Slope)*float64(pre)/ue)
 	}
 	frontSamples := fit.FrontTimeFactor * (t90 - t30)
 	shape := LightningFull
@@ -369,7 +372,47 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 			r.warn("record-short", "the record ends before the tail falls to 50 %%: no time to half-value (record %.3g us after O1)", (abs(float64(n-1))-r.Origin_s)*1e6)
 		}
 	}
+	r.drift(tv, itv, pre, s)
 	return r, nil
+}
+
+// drift judges the baseline's trend where it acts: the pre-trigger part's slope,
+// extrapolated to the 50 % point on the tail (or the record's end), against DriftMax of
+// Ue, when the extrapolation stands above three times its own uncertainty. The warning
+// gives the effect on Ut and T2: the drift at the peak, and the drift at t50 over the
+// tail's slope there.
+func (r *Result) drift(tv []float64, itv, pre int, s Settings) {
+	r.DriftUt_pct, r.DriftT2_pct = math.NaN(), math.NaN()
+	bl, n := r.Baseline, len(tv)
+	if pre <= 16 || bl.Slope == 0 || r.Shape == LightningChopped {
+		return // a chopped impulse has no tail for the trend to act on
+	}
+	c := float64(pre-1) / 2 // the pre-trigger's centre, where the level is exact
+	// a least-squares slope over pre samples of noise sigma has sigma sqrt(12/pre^3)
+	sd := bl.NoiseRMS * math.Sqrt(12/math.Pow(float64(pre), 3))
+	slope := float64(r.Polarity) * bl.Slope
+	i50 := float64(n - 1)
+	if !math.IsNaN(r.T50_s) {
+		i50 = (r.T50_s - r.Start_s) / r.Interval_s
+	}
+	d50 := slope * (i50 - c)
+	if math.Abs(d50) <= s.DriftMax*r.Extreme_v || math.Abs(d50) <= 3*sd*(i50-c) {
+		return
+	}
+	r.DriftUt_pct = 100 * slope * (float64(itv) - c) / r.TestVoltage_v
+	what := "the record's end"
+	if k := int(math.Round(i50)); !math.IsNaN(r.TimeToHalf_s) && k > 0 && k < n-1 {
+		what = "the 50 % point"
+		// the tail crosses 50 % later by the drift over its (falling) slope there
+		if ds := (tv[k+1] - tv[k-1]) / 2; ds < 0 {
+			r.DriftT2_pct = 100 * (-d50 / ds) * r.Interval_s / r.TimeToHalf_s
+		}
+	}
+	effect := fmt.Sprintf("Ut about %+.2g %%", r.DriftUt_pct)
+	if !math.IsNaN(r.DriftT2_pct) {
+		effect += fmt.Sprintf(" and T2 about %+.2g %%", r.DriftT2_pct)
+	}
+	r.warn("baseline-drift", "the baseline's trend, from the pre-trigger part, reaches %.2g %% of Ue at %s: %s off for it", 100*math.Abs(d50)/r.Extreme_v, what, effect)
 }
 
 // frontPolarity is the sign of the first excursion that grows out of the noise into the

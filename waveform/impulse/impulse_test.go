@@ -399,3 +399,47 @@ func TestFrontChoppedJudgedByItsOwnQuantities(t *testing.T) {
 	assert.Empty(t, Judge(r, nom, DefaultTolerances()), "no full-impulse T1 or overshoot failure")
 	assert.Empty(t, Unmeasured(r, nom))
 }
+
+// A baseline drift is judged where it acts: a linear drift, visible in the pre-trigger
+// part, that moves T2 by about +4 % at the 50 % point (against the handbook shape's T2 of
+// the SciPy references) is warned about, and the warning's estimates of the effect on Ut
+// and T2 agree with the effect measured against those references.
+func TestDriftJudgedWhereItActs(t *testing.T) {
+	refs, _ := loadRefs(t)
+	hb := refs["handbook-lightning"]
+	dt, td := 10e-9, 20e-6
+	u := 300e3 / hb.PeakFactor
+	rnd := rand.New(rand.NewPCG(4, 4))
+	record := func(drift float64) []float64 {
+		x := make([]float64, 15000)
+		for i := range x {
+			tt := float64(i) * dt
+			if s := tt - td; s > 0 {
+				x[i] = u * (math.Exp(-s/hb.Tau1) - math.Exp(-s/hb.Tau2))
+			}
+			x[i] += drift*tt + 150*rnd.NormFloat64()
+		}
+		return x
+	}
+	// 0.0147 Ue at t50, 60 us after the pre-trigger's centre: about 4 % on T2 (a tail
+	// falling 0.5 Ue in tau1 x ln 2)
+	r, err := Evaluate(record(0.0147*300e3/60e-6), 0, dt, DefaultSettings())
+	require.NoError(t, err)
+	var text string
+	for _, w := range r.Warnings {
+		if w.Code == "baseline-drift" {
+			text = w.Text
+		}
+	}
+	require.NotEmpty(t, text, "the drift is warned about")
+	gotT2 := 100 * (r.TimeToHalf_s - hb.T2) / hb.T2
+	gotUt := 100 * (r.TestVoltage_v - 300e3) / 300e3
+	assert.InDelta(t, 4, gotT2, 1, "the constructed drift moves T2 by about 4 %")
+	assert.InDelta(t, gotT2, r.DriftT2_pct, 0.5, "the estimate of T2's shift: %s", text)
+	assert.InDelta(t, gotUt, r.DriftUt_pct, 0.15, "the estimate of Ut's shift: %s", text)
+	r, err = Evaluate(record(0), 0, dt, DefaultSettings())
+	require.NoError(t, err)
+	for _, w := range r.Warnings {
+		assert.NotEqual(t, "baseline-drift", w.Code, "no drift, no warning")
+	}
+}
