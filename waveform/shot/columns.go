@@ -7,6 +7,7 @@ import (
 	"math"
 	"strconv"
 	"strings"
+	"time"
 
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/probe"
@@ -198,6 +199,13 @@ var Columns = []*Column{
 		}},
 	{Key: "droop_tau_estimated", Kind: Flag, Label: "droop estimated", Doc: "`true` when the droop time constant was estimated from the record",
 		text: func(r *Row) string { return flag(r.DroopEstimated) }},
+	{Key: "fired", Kind: Text, Label: "fired", Doc: "when the shot was fired: the trigger time the capture states, else the file's modification time (RFC 3339, UTC)",
+		text: func(r *Row) string {
+			if r.Fired.IsZero() {
+				return ""
+			}
+			return r.Fired.UTC().Format(time.RFC3339Nano)
+		}},
 	{Key: "synthetic", Kind: Flag, Label: "synthetic", Doc: "`true` when the capture says it is synthetic (made by `hvshot synth` or the demo), not a measurement",
 		text: func(r *Row) string { return flag(r.Synthetic) }},
 	ColVerdict, ColFailures, ColUnmeasured, ColWarnings, ColError,
@@ -231,7 +239,8 @@ type Row struct {
 	Shape          impulse.Shape
 	Polarity       Polarity
 	DroopEstimated bool
-	Synthetic      bool // the capture says it is synthetic: a rehearsal, not a test record
+	Synthetic      bool      // the capture says it is synthetic: a rehearsal, not a test record
+	Fired          time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
 	Verdict        Verdict
 	Failures       []impulse.Failure
 	Unmeasured     []string // parameters the verdict needs that could not be measured

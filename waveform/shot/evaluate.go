@@ -18,6 +18,7 @@ type Shot struct {
 	ID     string
 	Rows   []Row
 	Curves []*Curves // parallel to Rows; nil where there is nothing to draw
+	Traces []Trace   // each divider row's curve, small, for the series' overlay
 }
 
 // Curves are what a row's plot shows: a divider's impulse with the nominal it was
@@ -94,6 +95,11 @@ func Evaluate(rec *waveform.Record, id string, cfg *Config) *Shot {
 		row.Warnings = append(row.Warnings, warns...)
 		s.Rows = append(s.Rows, row)
 		s.Curves = append(s.Curves, c)
+		if c != nil {
+			if t := trace(&row, c); t != nil {
+				s.Traces = append(s.Traces, *t)
+			}
+		}
 	}
 	return s
 }
@@ -104,7 +110,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	if cs.Name != "" {
 		label = cs.Name
 	}
-	row := Row{File: id, Channel: label, Role: cs.Role, Synthetic: Synthetic(rec)}
+	row := Row{File: id, Channel: label, Role: cs.Role, Synthetic: Synthetic(rec), Fired: rec.Trigger}
 	src := newSources()
 	fail := func(err error) (Row, *Curves) {
 		row.Verdict, row.Error = Error, fmt.Sprintf("%s: channel %s: %v", id, label, err)
