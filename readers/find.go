@@ -88,3 +88,42 @@ func Find(paths []string, leave func(path string, d fs.DirEntry) bool) (found, s
 	}
 	return found, skipped, nil
 }
+
+// Beside returns the nearest file called name in path's folder or the folders above it,
+// no higher than root (a folder given on the command line; for a file given itself, its
+// own folder), or "" when there is none: the setup file that belongs to a capture.
+func Beside(path, root, name string) string {
+	dir, _ := filepath.Abs(filepath.Dir(path))
+	top, _ := filepath.Abs(root)
+	if st, err := os.Stat(root); err != nil || !st.IsDir() {
+		top = dir
+	}
+	for {
+		if st, err := os.Stat(filepath.Join(dir, name)); err == nil && st.Mode().IsRegular() {
+			return filepath.Join(dir, name)
+		}
+		if dir == top || !strings.HasPrefix(dir, top+string(filepath.Separator)) {
+			return ""
+		}
+		dir = filepath.Dir(dir)
+	}
+}
+
+// BesideAll groups paths by the file called name that belongs to each (Beside), each
+// path's root being the longest of roots that holds it: the map's keys are those files
+// ("" for paths with none).
+func BesideAll(paths, roots []string, name string) map[string][]string {
+	out := map[string][]string{}
+	for _, p := range paths {
+		ap, _ := filepath.Abs(p)
+		root, best := p, ""
+		for _, r := range roots {
+			if ar, _ := filepath.Abs(r); strings.HasPrefix(ap, ar+string(filepath.Separator)) && len(ar) > len(best) {
+				root, best = r, ar
+			}
+		}
+		s := Beside(p, root, name)
+		out[s] = append(out[s], p)
+	}
+	return out
+}

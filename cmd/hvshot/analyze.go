@@ -2,6 +2,7 @@ package main
 
 import (
 	"bufio"
+	"cmp"
 	"context"
 	"encoding/csv"
 	"encoding/json"
@@ -11,6 +12,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"sort"
 	"strings"
 	"syscall"
 	"time"
@@ -92,17 +94,24 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if o.jobs < 1 {
 		return e.usage(name, "--jobs: at least 1, not %d", o.jobs)
 	}
-	cfg, rd, err := configure(o, inputs)
-	var se *shot.SetupError
-	if errors.As(err, &se) {
-		fmt.Fprintf(e.stderr, "hvshot %s: %v\nThe setup file's keys and units are in docs/setup.md.\n", name, err)
-		return exitUsage
+	if _, _, err := configure(o, ""); err != nil {
+		return e.usage(name, "%v", err) // the flags, before any file is looked at
 	}
-	if err != nil {
-		return e.usage(name, "%v", err)
+	missing := 0
+	for _, in := range inputs {
+		if _, err := os.Stat(in); err != nil {
+			missing++
+		}
+	}
+	if missing == len(inputs) {
+		return e.usage(name, "no such file or folder: %s", strings.Join(inputs, ", "))
 	}
 	// the captures first: no output folder is made for a run that has nothing to read
 	var files []input
+	setup := readers.Beside(filepath.Join(inputs[0], "-"), inputs[0], shot.SetupFileName) // watch: the folder's own
+	if o.setup != "" {
+		setup = o.setup
+	}
 	if !watch {
 		var skipped []string
 		if files, skipped, err = collectFiles(inputs, o.out); err != nil {
@@ -115,8 +124,20 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		if len(files) == 0 {
 			return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
 		}
+		if setup, err = setupFor(o, files, inputs); err != nil {
+			return e.usage(name, "%v", err)
+		}
 	}
-	out, err := outputFolder(o.out, inputs, o.force || watch)
+	cfg, rd, err := configure(o, setup)
+	var se *shot.SetupError
+	if errors.As(err, &se) {
+		fmt.Fprintf(e.stderr, "hvshot %s: %v\nThe setup file's keys and units are in docs/setup.md.\n", name, err)
+		return exitUsage
+	}
+	if err != nil {
+		return e.usage(name, "%v", err)
+	}
+	out, err := outputFolder(o.out, inputs, o.force)
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
@@ -129,6 +150,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	}
 	series := shot.NewSeries(cfg.Series)
 	var rows []shot.Row
+	var traces []shot.Trace
 	lost := false // a plot that could not be written: a warning on its row, and exit 2
 	prog := report.NewProgress(e.stderr, len(files), o.quiet)
 	csvOut := csv.NewWriter(e.stdout)
@@ -139,7 +161,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		series.Add(shots...)
 		for _, s := range shots {
 			lost = lost || s.PlotsLost()
-			rows = append(rows, s.Rows...)
+			rows, traces = append(rows, s.Rows...), append(traces, s.Traces...)
 			printRows(e, o.format, csvOut, s.Rows)
 		}
 		prog.Step(i + 1)
@@ -151,7 +173,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		fmt.Fprintln(e.stdout)
 		report.Summary(e.stdout, sum)
 	}
-	if err := writeOutputs(w, rows, sum); err != nil {
+	if err := writeOutputs(w, rows, traces, sum); err != nil {
 		return e.fail(name, fmt.Errorf("writing outputs: %w", err))
 	}
 	if !o.quiet {
@@ -192,22 +214,34 @@ func exitStatus(s shot.Summary) int {
 
 // configure turns the setup file and the flags into the evaluation's configuration and
 // the reading options; flags override the setup file.
-func configure(o *analyzeOpts, inputs []string) (*shot.Config, readers.Options, error) {
+// setupFor is the setup file of the captures: the one given, or the one beside them
+// all; captures that belong to different ones (or some to none) are refused.
+func setupFor(o *analyzeOpts, files []input, roots []string) (string, error) {
+	paths := make([]string, len(files))
+	for i, f := range files {
+		paths[i] = f.path
+	}
+	groups := readers.BesideAll(paths, roots, shot.SetupFileName)
+	if o.setup != "" || len(groups) <= 1 {
+		for p := range groups {
+			return cmp.Or(o.setup, p), nil
+		}
+		return o.setup, nil
+	}
+	var which []string
+	for p, used := range groups {
+		which = append(which, fmt.Sprintf("%s uses %s", used[0], cmp.Or(p, "no setup file")))
+	}
+	sort.Strings(which)
+	return "", fmt.Errorf("the captures belong to different setup files (%s): analyze each series on its own, or give --setup", strings.Join(which, "; "))
+}
+
+func configure(o *analyzeOpts, path string) (*shot.Config, readers.Options, error) {
 	rd, err := o.read.options()
 	if err != nil {
 		return nil, rd, err
 	}
 	cfg := shot.NewConfig()
-	path := o.setup
-	if path == "" {
-		dir := inputs[0]
-		if st, err := os.Stat(dir); err != nil || !st.IsDir() {
-			dir = filepath.Dir(dir)
-		}
-		if _, err := os.Stat(filepath.Join(dir, shot.SetupFileName)); err == nil {
-			path = filepath.Join(dir, shot.SetupFileName)
-		}
-	}
 	if path != "" {
 		b, err := os.ReadFile(path)
 		if err != nil {

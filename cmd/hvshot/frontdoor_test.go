@@ -249,3 +249,36 @@ func TestRunIsRecordedAndSmallMistakes(t *testing.T) {
 	assert.Equal(t, exitUsage, code)
 	assert.Contains(t, stderr, "--jobs: at least 1")
 }
+
+// One series, one setup: captures in folders with different setup files (or some with
+// none) are refused, whatever the order of the arguments; a capture is never judged
+// under another folder's setup.
+func TestSetupFilesBelongToTheirCaptures(t *testing.T) {
+	dir := t.TempDir()
+	day1, day2 := filepath.Join(dir, "series", "day1"), filepath.Join(dir, "series", "day2")
+	require.NoError(t, os.MkdirAll(day1, 0o755))
+	require.NoError(t, os.MkdirAll(day2, 0o755))
+	writeShot(t, filepath.Join(day1, "low.csv"), spec(1.2, 50, 300, 1), "text") // the low side of a 1000:1 divider
+	writeShot(t, filepath.Join(day2, "a.csv"), spec(1.2, 50, 300e3, 2), "text")
+	require.NoError(t, os.WriteFile(filepath.Join(day1, shot.SetupFileName), []byte("[nominal]\ntest_voltage = \"300 kV\"\n[[channel]]\nindex = 1\nrole = \"divider\"\nratio = 1000\n"), 0o644))
+	for _, args := range [][]string{{filepath.Join(dir, "series")}, {filepath.Join(day1, "low.csv"), filepath.Join(day2, "a.csv")}, {filepath.Join(day2, "a.csv"), filepath.Join(day1, "low.csv")}} {
+		code, _, stderr := runCmd(append([]string{"analyze", "--quiet", "--plots", "none"}, args...)...)
+		assert.Equal(t, exitUsage, code, args)
+		assert.Contains(t, stderr, "different setup files", args)
+	}
+	// each day on its own: day1's setup for day1
+	code, out, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(dir, "o1"), day1)
+	require.NotEqual(t, exitUsage, code, stderr)
+	var row map[string]any
+	require.NoError(t, json.Unmarshal([]byte(out), &row))
+	assert.InEpsilon(t, 300e3, row["test_voltage_v"], 0.01, "day1's ratio of 1000 applied to day1")
+	assert.Equal(t, "pass", row["verdict"])
+	// nothing to read at all is a usage error, and makes no folder
+	code, _, stderr = runCmd("analyze", filepath.Join(dir, "nonexistent"))
+	assert.Equal(t, exitUsage, code)
+	assert.Contains(t, stderr, "no such file or folder")
+	entries, _ := os.ReadDir(dir)
+	for _, e := range entries {
+		assert.NotContains(t, e.Name(), "hvshot-report")
+	}
+}

@@ -73,6 +73,11 @@ func TestGoldenSeries(t *testing.T) {
 	s := spec(1.2, 50, 300e3, 3)
 	s.Chop_s, s.Collapse_s = 3e-6, 0.1e-6
 	writeShot(t, filepath.Join(caps, "c.bin"), s, "raw")
+	// a fixed modification time: the firing time of captures that state none
+	fired := time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	for _, f := range []string{"a.csv", "b.npy", "c.bin"} {
+		require.NoError(t, os.Chtimes(filepath.Join(caps, f), fired, fired))
+	}
 	out := filepath.Join(dir, "out")
 	code, stdout, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--nominal", "1.2/50", "--peak", "300kV", "--out", out, caps)
 	require.Equal(t, exitOutOfTol, code, stderr)

@@ -1,13 +1,11 @@
 package main
 
 import (
-	"bytes"
 	"context"
-	"encoding/json"
 	"errors"
 	"fmt"
-	"io"
 	"io/fs"
+	"os"
 	"path/filepath"
 	"strings"
 	"time"
@@ -42,16 +40,13 @@ func collectFiles(args []string, outDir string) (files []input, skipped []string
 	return files, skipped, err
 }
 
-// outputs are what a run writes into its output folder.
-var outputs = []string{"results.csv", "results.jsonl", "summary.json", "report.html", "plots"}
-
 // outputFolder takes the folder asked for (see folder.Open), or makes a new one next to
 // the inputs: beside a folder given, in the folder of a file given.
 func outputFolder(out string, inputs []string, replace bool) (*folder.Folder, error) {
 	if out == "" {
 		return folder.New(filepath.Dir(filepath.Clean(inputs[0])), folder.Stem(time.Now()))
 	}
-	f, err := folder.Open(out, folder.Options{Report: "report.html", Replace: replace, Clean: outputs})
+	f, err := folder.Open(out, folder.Options{Report: "report.html", Replace: replace, Clean: report.Outputs})
 	if err != nil {
 		return nil, fmt.Errorf("--out: %v", err)
 	}
@@ -79,38 +74,20 @@ func (w *worker) do(in input) (shots []*shot.Shot) {
 		// named as the rows name it: by its identity
 		return []*shot.Shot{shot.Failed(in.id, errors.New(strings.Replace(err.Error(), in.path, in.id, 1)))}
 	}
+	st, _ := os.Stat(in.path)
 	for _, rec := range recs {
+		if rec.Trigger.IsZero() && st != nil {
+			rec.Trigger = st.ModTime() // fired when saved, at the latest
+		}
 		id := in.id
 		if rec.Segment > 0 {
 			id = shot.SegmentID(id, rec.Segment)
 		}
 		s := shot.Evaluate(rec, id, w.cfg)
-		w.draw(s)
+		report.DrawPlots(w.out, s, w.plots)
 		shots = append(shots, s)
 	}
 	return shots
-}
-
-// draw writes the shot's plots and lets go of the curves.
-func (w *worker) draw(s *shot.Shot) {
-	for k, c := range s.Curves {
-		r := &s.Rows[k]
-		if c == nil || w.plots == report.NoPlot || w.out == nil {
-			continue
-		}
-		rel := shot.PlotPath(s.ID, k, r.Channel, string(w.plots))
-		var b bytes.Buffer
-		err := report.Plot(&b, c, s.ID+"  "+r.Channel, w.plots)
-		if err == nil {
-			err = w.out.WriteBytes(rel, b.Bytes())
-		}
-		if err != nil {
-			r.Warnings = append(r.Warnings, shot.Warning{Code: shot.PlotFailed, Text: err.Error()})
-			continue
-		}
-		r.Plot = rel
-	}
-	s.Curves = nil
 }
 
 // runBatch evaluates the files on jobs workers and hands each file's shots to emit in
@@ -119,20 +96,7 @@ func runBatch(ctx context.Context, files []input, w *worker, jobs int, emit func
 	return shot.RunOrdered(ctx, len(files), jobs, func(i int) []*shot.Shot { return w.do(files[i]) }, emit)
 }
 
-// writeOutputs writes the tables, the summary and the report, each atomically.
-func writeOutputs(w *worker, rows []shot.Row, sum shot.Summary) error {
-	d := w.out
-	err := d.Write("results.csv", func(f io.Writer) error { return shot.WriteCSV(f, rows) })
-	if err == nil {
-		err = d.Write("results.jsonl", func(f io.Writer) error { return shot.WriteJSONL(f, rows) })
-	}
-	if err == nil {
-		sj, _ := json.MarshalIndent(sum, "", " ")
-		err = d.WriteBytes("summary.json", append(sj, '\n'))
-	}
-	if err == nil {
-		page := report.Page{Summary: sum, Rows: rows, Config: w.cfg, Version: Version, Made: time.Now(), Plot: d.Read}
-		err = d.Write("report.html", func(f io.Writer) error { return report.HTML(f, page) })
-	}
-	return err
+// writeOutputs writes the tables, the summary and the report (report.WriteAll).
+func writeOutputs(w *worker, rows []shot.Row, traces []shot.Trace, sum shot.Summary) error {
+	return report.WriteAll(w.out, report.Page{Summary: sum, Rows: rows, Traces: traces, Config: w.cfg, Version: Version, Made: time.Now()})
 }

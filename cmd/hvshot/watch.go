@@ -85,15 +85,16 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 		if changed {
 			series := shot.NewSeries(w.cfg.Series)
 			var rows []shot.Row
+			var traces []shot.Trace
 			for _, p := range order {
 				series.Add(shots[p]...)
 				for _, sh := range shots[p] {
-					rows = append(rows, sh.Rows...)
+					rows, traces = append(rows, sh.Rows...), append(traces, sh.Traces...)
 				}
 			}
 			sum := series.Summary()
 			sum.Command = e.command
-			if err := writeOutputs(w, rows, sum); err != nil {
+			if err := writeOutputs(w, rows, traces, sum); err != nil {
 				return e.fail("watch", fmt.Errorf("writing outputs: %w", err))
 			}
 		}

@@ -1,6 +1,7 @@
 package report
 
 import (
+	"bytes"
 	"encoding/base64"
 	"html/template"
 	"io"
@@ -25,6 +26,7 @@ safety system, and nothing it prints is a reason to approach energised equipment
 type Page struct {
 	Summary shot.Summary
 	Rows    []shot.Row
+	Traces  []shot.Trace // for the series charts' overlay
 	Config  *shot.Config
 	Version string
 	Made    time.Time
@@ -54,7 +56,7 @@ table.shots tr.first td{border-top:2px solid #999}table.shots tr.why td{text-ali
 .pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}
 dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:.6em 0}dl.facts dt{font-weight:600}dl.facts dd{margin:0;overflow-wrap:anywhere}
 .synthetic{background:#fde8e8;border:2px solid #a00000;color:#a00000;font-weight:bold;padding:.5em .8em;margin:.8em 0}
-.shot{border:1px solid #ddd;padding:.4em .8em;margin:1em 0;border-radius:4px}
+.shot{border:1px solid #ddd;padding:.4em .8em;margin:1em 0;border-radius:4px}.charts{break-inside:avoid;margin:.5em 0}
 .params{display:flex;flex-wrap:wrap;gap:.2em .4em;margin:.4em 0;padding:0}.params div{border:1px solid #ddd;border-radius:3px;padding:.05em .4em;font-size:.85em;white-space:nowrap}.params dt{display:inline;color:#555}.params dd{display:inline;margin:0 0 0 .3em;font-variant-numeric:tabular-nums}
 .msg{overflow-wrap:anywhere}
 .plot svg,.plot img{width:100%;height:auto;display:block}
@@ -96,6 +98,8 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Stats}}<table id="stats-table"><tr><th class="l">parameter</th><th class="l">shots</th><th>n</th><th>mean</th><th>sd</th><th>min</th><th>max</th><th class="l">unit</th></tr>
 {{range .Stats}}<tr>{{range $i, $c := .}}<td class="{{if or (eq $i 0) (eq $i 1) (eq $i 7)}}l{{else}}num{{end}}">{{$c}}</td>{{end}}</tr>
 {{end}}</table>{{end}}
+{{if .Charts}}<h2 id="series-charts">The series at a glance</h2>
+<div class="plot charts">{{.Charts}}</div>{{end}}
 <h2>Shots, failing and unreadable first</h2>
 <table class="shots" id="shots-table"><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th><th class="l">pol.</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr>
 {{range .Rows}}<tr{{if .First}} class="first"{{end}}><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td><td class="l">{{.Pol}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
@@ -257,8 +261,17 @@ func HTML(w io.Writer, p Page) error {
 	// The page margin's text, as a CSS string: html/template refuses text in a style
 	// sheet unless it is typed as CSS, so quote it here, escaping what could end it.
 	titleCSS := template.CSS(`"` + strings.NewReplacer(`\`, `\\`, `"`, `\"`, "\n", " ", "<", `\3c `, ">", `\3e `).Replace(title) + `"`)
+	var charts bytes.Buffer
+	if err := SeriesCharts(&charts, p.Rows, p.Traces, cfg); err != nil {
+		return err
+	}
+	chartsHTML := template.HTML("")
+	if s := charts.String(); strings.Contains(s, "<svg") {
+		chartsHTML = template.HTML(s[strings.Index(s, "<svg"):])
+	}
 	data := map[string]any{
-		"Title": title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
+		"Charts": chartsHTML,
+		"Title":  title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": strings.Join(s.Command, " "), "Ratios": ratios(cfg),

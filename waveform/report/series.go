@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"sort"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -64,7 +65,8 @@ func SeriesCharts(w io.Writer, rows []shot.Row, traces []shot.Trace, cfg *shot.C
 		frontCol, frontNom, frontTol, tailTol = shot.ColTimeToPeak, nom.Front_s, cfg.Tolerances.TimeToPeak_pct, cfg.Tolerances.SwitchingTail_pct
 	}
 	panel := func(c *shot.Column, nominal, pct float64, legend bool) *plot.Plot {
-		p := newPanel(fmt.Sprintf("%s (%s)", c.Stat, c.Screen), fmt.Sprintf("%s %s", c.Label, c.Screen))
+		unit := strings.ReplaceAll(c.Screen, "us", "µs")
+		p := newPanel(fmt.Sprintf("%s (%s)", c.Stat, unit), fmt.Sprintf("%s (%s)", c.Label, unit))
 		p.X.Label.Text = "shot, in firing order"
 		if nominal > 0 {
 			for _, k := range []float64{1 - pct/100, 1 + pct/100} {
