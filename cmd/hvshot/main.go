@@ -10,8 +10,10 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"os/signal"
 	"regexp"
 	"strings"
+	"syscall"
 
 	flag "github.com/spf13/pflag"
 
@@ -30,9 +32,9 @@ const (
 	exitInterrupted = 130
 )
 
-const exitText = `exit status: 0 all shots evaluated and within tolerance, 1 some shot out of tolerance,
-2 some file could not be read or evaluated, 64 usage error, 130 interrupted (what was
-done is written).`
+const exitText = `exit status: 0 all shots evaluated and within tolerance, 1 some shot out of tolerance
+or incomplete, 2 some file could not be read or evaluated, 64 usage error, 130
+interrupted (what was done is written).`
 
 // command is a subcommand: its flags and what it does with the arguments; its help
 // text is help/NAME.txt.
@@ -63,6 +65,9 @@ type env struct {
 var commands []*command
 
 func main() {
+	// A reader that stops early (| head) must not kill the run before its files are
+	// written: writes to a closed pipe then fail, and are not waited on.
+	signal.Ignore(syscall.SIGPIPE)
 	os.Exit(run(os.Args[1:], os.Stdin, os.Stdout, os.Stderr))
 }
 

@@ -105,7 +105,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{range .Rows}}<tr{{if .First}} class="first"{{end}}><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td><td class="l">{{.Pol}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
 {{if .Why}}<tr class="why"><td></td><td colspan="{{$.Span}}" class="{{.R.Verdict}}-why">{{.Why}}</td></tr>{{end}}
 {{end}}</table>
-{{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}} · {{.Channel}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
+{{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}}{{if ne .Channel "-"}} · {{.Channel}}{{end}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
 {{if .Kind}}<p>{{.Kind}}</p>{{end}}
 {{if .Why}}<p class="{{.R.Verdict}} msg">{{.Why}}</p>{{end}}
 {{if .Params}}<dl class="params">{{range .Params}}<div><dt>{{.K}}</dt><dd>{{.V}}</dd></div>{{end}}</dl>{{end}}
@@ -272,7 +272,7 @@ func HTML(w io.Writer, p Page) error {
 	data := map[string]any{
 		"Charts": chartsHTML,
 		"Title":  title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
-		"When": p.Made.Format("2006-01-02 15:04"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
+		"When": p.Made.Format("2006-01-02 15:04 MST"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": strings.Join(s.Command, " "), "Ratios": ratios(cfg),
 	}

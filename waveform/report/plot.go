@@ -6,6 +6,7 @@ import (
 	"io"
 	"math"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -330,15 +331,23 @@ func plotImpulse(w io.Writer, c *shot.Curves, title string, format PlotFormat) e
 		p.X.Min, p.X.Max = lo*ts, hi*ts
 		return p
 	}
-	var note string
+	// a value that could not be measured is said so, never printed as NaN
+	f := func(label string, v, scale float64, digits int, fixed bool, unit string) string {
+		if math.IsNaN(v) {
+			return label + " not measured"
+		}
+		return label + " " + shot.FormatDigits(v*scale, digits, fixed) + " " + unit
+	}
+	var parts []string
 	switch r.Shape {
 	case impulse.Switching:
-		note = fmt.Sprintf("Ut %.1f kV  Tp %.0f µs  T2 %.0f µs", r.TestVoltage_v*vs, r.TimeToPeak_s*ts, r.TimeToHalf_s*ts)
+		parts = []string{f("Ut", r.TestVoltage_v, vs, 4, false, "kV"), f("Tp", r.TimeToPeak_s, ts, 4, false, "µs"), f("T2", r.TimeToHalf_s, ts, 4, false, "µs")}
 	case impulse.LightningChopped:
-		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f µs  Tc %.3f µs", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.ChopTime_s*ts)
+		parts = []string{f("Ut", r.TestVoltage_v, vs, 4, false, "kV"), f("T1", r.FrontTime_s, ts, 4, false, "µs"), f("Tc", r.ChopTime_s, ts, 4, false, "µs")}
 	default:
-		note = fmt.Sprintf("Ut %.1f kV  T1 %.3f µs  T2 %.2f µs  β' %s %%", r.TestVoltage_v*vs, r.FrontTime_s*ts, r.TimeToHalf_s*ts, shot.FormatDigits(r.Overshoot_pct, 1, true))
+		parts = []string{f("Ut", r.TestVoltage_v, vs, 4, false, "kV"), f("T1", r.FrontTime_s, ts, 4, false, "µs"), f("T2", r.TimeToHalf_s, ts, 4, false, "µs"), f("β'", r.Overshoot_pct, 1, 1, true, "%")}
 	}
+	note := strings.Join(parts, "  ")
 	left := build(frontLo, frontHi, false, fmt.Sprintf("%s  (%s)\nfront", title, r.Shape))
 	right := build(r.Start_s, fullHi, true, note+"\nwhole impulse")
 	return save(w, format, left, right)

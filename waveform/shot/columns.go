@@ -39,7 +39,7 @@ type Column struct {
 	Fixed   bool    // Digits counts decimals, for values near zero such as overshoot
 	Console int     // position in the per-shot tables on the console and in the report; 0: not there
 	Stat    string  // the series statistic's name; empty when the summary leaves it out
-	Param   string  // the parameter a tolerance judges, as failures and unmeasured name it
+	Param   string  // the measured parameter the value rests on, as failures and unmeasured name it
 
 	index  int
 	value  func(*sources) float64 // Number
@@ -116,7 +116,7 @@ var (
 		Stat: "peak current", Doc: "coil or current: the current's peak", value: fromCurrent(func(r *probe.CurrentResult) float64 { return r.Peak_a })}
 	ColPeakField = &Column{Key: "peak_field_v_per_m", Unit: "V/m", Kind: Number, Label: "E", Screen: "kV/m", Scale: 1e-3, Digits: 4, Console: 8,
 		Stat: "peak field", Doc: "antenna or field: the field's peak", value: fromField(func(r *probe.FieldResult) float64 { return r.Peak_v_per_m })}
-	ColEfficiency = &Column{Key: "efficiency", Kind: Number, Label: "efficiency", Scale: 1, Digits: 3, Stat: "generator efficiency",
+	ColEfficiency = &Column{Key: "efficiency", Kind: Number, Label: "efficiency", Scale: 1, Digits: 3, Stat: "generator efficiency", Param: "test_voltage",
 		Doc: "Ut / (stages x charging voltage)", value: func(s *sources) float64 { return s.efficiency }}
 	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, or `measured` for a channel no tolerance applies to (coil, antenna, current, field)",
 		text: func(r *Row) string { return string(r.Verdict) }}
@@ -185,7 +185,7 @@ var Columns = []*Column{
 		value: fromCurrent(func(r *probe.CurrentResult) float64 { return r.TimeToHalf_s })},
 	{Key: "charge_c", Unit: "C", Kind: Number, Label: "Q", Screen: "mC", Scale: 1e3, Digits: 4, Doc: "coil: the charge, integral of I dt",
 		value: fromCurrent(func(r *probe.CurrentResult) float64 { return r.Charge_c })},
-	{Key: "action_integral_a2s", Unit: "A^2 s", Kind: Number, Label: "action", Screen: "A^2 s", Scale: 1, Digits: 4, Doc: "coil: the action integral, integral of I^2 dt",
+	{Key: "action_integral_a2s", Unit: "A^2 s", Kind: Number, Label: "action", Screen: "A²s", Scale: 1, Digits: 4, Doc: "coil: the action integral, integral of I^2 dt",
 		value: fromCurrent(func(r *probe.CurrentResult) float64 { return r.Action_a2s })},
 	ColPeakField,
 	{Key: "field_change_v_per_m", Unit: "V/m", Kind: Number, Label: "E end", Screen: "kV/m", Scale: 1e-3, Digits: 4, Doc: "antenna: the field at the record's end against before the event",
@@ -250,7 +250,8 @@ type Row struct {
 	// it; not an output key.
 	Plot string
 
-	values []float64 // by column index; NaN when absent
+	values    []float64 // by column index; NaN when absent
+	untrusted []string  // parameters measured but not to be trusted, for the statistics
 }
 
 // Value returns a Number column's value and whether it is present.

@@ -89,6 +89,22 @@ func Evaluate(rec *waveform.Record, id string, cfg *Config) *Shot {
 			warns = append(warns, Warning{"ratio-unmatched", fmt.Sprintf("the ratio for %q matches no channel; the file's channels are %s", k, channelNames(rec))})
 		}
 	}
+	// Channels named like sensors that nothing describes are left out, said on the
+	// file's rows, when something else in the file can be evaluated; alone, each is an
+	// error row that says what to do.
+	var named []string
+	kept := plans[:0:0]
+	for _, p := range plans {
+		if p.named != "" {
+			named = append(named, fmt.Sprintf("%s (a %s?)", p.ch.Name, p.named))
+		} else {
+			kept = append(kept, p)
+		}
+	}
+	if len(named) > 0 && len(kept) > 0 {
+		warns = append(warns, Warning{"sensor-undescribed", fmt.Sprintf("not evaluated: %s, named like sensor channels and described by nothing; give each a role and its sensor (--role NAME=coil with --coil, or a [[channel]] table in the setup file)", strings.Join(named, ", "))})
+		plans = kept
+	}
 	s := &Shot{ID: id}
 	for _, p := range plans {
 		row, c := evaluateChannel(rec, id, p, cfg)
@@ -236,6 +252,9 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		}
 	}
 	row.Unmeasured = slices.Sorted(maps.Keys(unmeasured))
+	// what the statistics may not trust, whatever the nominal judges (a clipped Ut
+	// without a nominal test voltage is still a clipped Ut)
+	row.untrusted = slices.Sorted(maps.Keys(impulse.Unmeasured(r, impulse.Nominal{Peak_v: 1}.For(r.Shape))))
 	row.Verdict = Pass
 	switch {
 	case len(row.Failures) > 0:

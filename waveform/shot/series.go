@@ -125,7 +125,7 @@ func (s *Series) add(sh *Shot) {
 		}
 		for _, c := range Columns {
 			// a value the verdict could not trust (a clipped extreme) is no statistic either
-			if v, ok := r.Value(c); ok && c.Stat != "" && !slices.Contains(r.Unmeasured, c.Param) {
+			if v, ok := r.Value(c); ok && c.Stat != "" && !slices.Contains(r.untrusted, c.Param) {
 				k := statKey{c.index, group(r)}
 				if s.acc[k] == nil {
 					s.acc[k] = &welford{}

@@ -65,11 +65,20 @@ func TestEvaluateReturnsCurvesAndTouchesNoDisk(t *testing.T) {
 func TestPlanningWithoutSetup(t *testing.T) {
 	cfg := shot.NewConfig()
 	s := shot.Evaluate(record(t, 1.2, 2), "a.csv", cfg)
-	require.Len(t, s.Rows, 2)
+	require.Len(t, s.Rows, 1, "the coil channel is left out, and said so")
 	assert.Equal(t, shot.Pass, s.Rows[0].Verdict)
-	assert.Equal(t, shot.Error, s.Rows[1].Verdict)
-	assert.Contains(t, s.Rows[1].Error, "its name says coil")
-	assert.Contains(t, s.Rows[1].Error, "--role coil=coil")
+	require.NotEmpty(t, s.Rows[0].Warnings)
+	assert.Equal(t, "sensor-undescribed", s.Rows[0].Warnings[0].Code)
+	assert.Contains(t, s.Rows[0].Warnings[0].Text, "coil (a coil?)")
+	// alone in its file, such a channel is an error row that says what to do
+	rec := record(t, 1.2, 2)
+	rec.Channels = rec.Channels[1:]
+	rec.Channels = append(rec.Channels, waveform.Channel{Name: "antenna", Samples: rec.Channels[0].Samples})
+	s = shot.Evaluate(rec, "b.csv", cfg)
+	require.Len(t, s.Rows, 2)
+	assert.Equal(t, shot.Error, s.Rows[0].Verdict)
+	assert.Contains(t, s.Rows[0].Error, "its name says coil")
+	assert.Contains(t, s.Rows[0].Error, "--role coil=coil")
 
 	require.NoError(t, cfg.AddRole("CH9=coil", "mutual=1nH,inductance=50nH,load_resistance=50", ""))
 	s = shot.Evaluate(record(t, 1.2, 2), "a.csv", cfg)
@@ -192,7 +201,7 @@ func TestSeriesStatistics(t *testing.T) {
 	}
 	sum := series.Summary()
 	assert.Equal(t, 4, sum.Files)
-	assert.Equal(t, 8, sum.Rows, "a divider and a coil row each")
+	assert.Equal(t, 4, sum.Rows, "a divider row each; the undescribed coil channels left out")
 	var st shot.Stat
 	for _, s := range sum.Stats {
 		if s.Key == "test_voltage_v" {
@@ -294,8 +303,14 @@ func TestIncompleteVerdict(t *testing.T) {
 	assert.Empty(t, r.Failures, "no failure on a clipped extreme")
 	series := shot.NewSeries("")
 	series.Add(s)
+	// and without a nominal test voltage to judge, the clipped Ut, and the efficiency
+	// resting on it, stay out of the statistics all the same
+	noPeak := shot.NewConfig()
+	noPeak.Stages, noPeak.Charging_v = 8, 40e3
+	series.Add(shot.Evaluate(gen(clipped), "clip2.csv", noPeak))
 	for _, st := range series.Summary().Stats {
 		assert.NotEqual(t, "test_voltage_v", st.Key, "a clipped Ut is no statistic")
+		assert.NotEqual(t, "efficiency", st.Key, "nor the efficiency from it")
 	}
 }
 
