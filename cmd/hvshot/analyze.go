@@ -278,5 +278,8 @@ func configure(o *analyzeOpts, path string) (*shot.Config, readers.Options, erro
 			return nil, rd, fmt.Errorf("--role %v", err)
 		}
 	}
+	if err := cfg.Check(len(o.coil) > 0, len(o.antenna) > 0); err != nil {
+		return nil, rd, err
+	}
 	return cfg, rd, nil
 }

@@ -33,6 +33,9 @@ func (c *Config) Set(key, value string) error {
 		if err != nil {
 			return err
 		}
+		if v < 0 {
+			return fmt.Errorf("%q: a magnitude; the polarity comes from the record", value)
+		}
 		if key == "peak" {
 			c.Nominal.Peak_v = math.Abs(v)
 		} else {
@@ -59,6 +62,28 @@ func (c *Config) Set(key, value string) error {
 		return c.AddRatio(value)
 	default:
 		return fmt.Errorf("no setting %q", key)
+	}
+	return nil
+}
+
+// Check reports settings that do nothing alone: stages without a charging voltage, or
+// the reverse (the efficiency needs both), a coil or antenna description no role uses.
+func (c *Config) Check(coil, antenna bool) error {
+	if (c.Stages > 0) != (c.Charging_v > 0) {
+		return fmt.Errorf("the generator's stages and charging voltage go together (the efficiency is Ut/(stages x charging voltage)): give both")
+	}
+	for _, x := range []struct {
+		given bool
+		role  Role
+		flag  string
+	}{{coil, Coil, "--coil"}, {antenna, Antenna, "--antenna"}} {
+		used := false
+		for _, r := range c.Roles {
+			used = used || r.Role == x.role
+		}
+		if x.given && !used {
+			return fmt.Errorf("%s describes a %s that no --role NAME=%s uses", x.flag, x.role, x.role)
+		}
 	}
 	return nil
 }
