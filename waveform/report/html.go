@@ -10,6 +10,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -209,7 +210,16 @@ func HTML(w io.Writer, p Page) error {
 	}
 	t := cfg.Tolerances
 	f := func(v float64) string { return strconv.FormatFloat(v, 'g', 4, 64) }
-	tolerances := "test voltage ±" + f(t.TestVoltage_pct) + " %; lightning T1 ±" + f(t.Front_pct) + " %, T2 ±" + f(t.Tail_pct) + " %, overshoot at most " + f(t.OvershootMax_pct) + " %; switching Tp ±" + f(t.TimeToPeak_pct) + " %, T2 ±" + f(t.SwitchingTail_pct) + " %"
+	// a tolerance other than the standard's says so beside it
+	std := impulse.DefaultTolerances()
+	g := func(v, s float64) string {
+		if v == s {
+			return f(v) + " %"
+		}
+		return f(v) + " % (IEC 60060-1:2010: " + f(s) + " %)"
+	}
+	tolerances := "test voltage ±" + g(t.TestVoltage_pct, std.TestVoltage_pct) + "; lightning T1 ±" + g(t.Front_pct, std.Front_pct) + ", T2 ±" + g(t.Tail_pct, std.Tail_pct) +
+		", overshoot at most " + g(t.OvershootMax_pct, std.OvershootMax_pct) + "; switching Tp ±" + g(t.TimeToPeak_pct, std.TimeToPeak_pct) + ", T2 ±" + g(t.SwitchingTail_pct, std.SwitchingTail_pct)
 	s := p.Summary
 	outcome, class := "every shot evaluated and within tolerance", "pass"
 	var parts []string

@@ -84,6 +84,12 @@ func TestHTML(t *testing.T) {
 	assert.Contains(t, sec, "day2/a.csv")
 	assert.Contains(t, html[i3:i2], "could not be read")
 	assert.Contains(t, html, "front_time 1.9")
+	// a tolerance other than the standard's says so
+	cfg := shot.NewConfig()
+	cfg.Tolerances.Front_pct = 300
+	b.Reset()
+	require.NoError(t, report.HTML(&b, report.Page{Summary: series.Summary(), Rows: rows, Config: cfg}))
+	assert.Contains(t, b.String(), "T1 ±300 % (IEC 60060-1:2010: 30 %)")
 }
 
 func TestTableAndSummary(t *testing.T) {

@@ -241,8 +241,15 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	row.Warnings = appendWarnings(row.Warnings, r.Warnings)
 	row.Warnings = append(row.Warnings, impulsePlausible(r)...)
 	nom := cfg.Nominal.For(r.Shape)
-	if nom.Peak_v > 0 && r.TestVoltage_v < 0.01*nom.Peak_v {
+	// scale slips, ours: a hundredfold off the nominal, or under a kilovolt with no
+	// nominal to compare (no impulse test runs that low; a divider's low side does)
+	switch {
+	case nom.Peak_v > 0 && r.TestVoltage_v < 0.01*nom.Peak_v:
 		row.Warnings = append(row.Warnings, Warning{"ratio-missing", fmt.Sprintf("the test voltage %.4g V is below 1 %% of the nominal %.4g kV: a low-side capture? give the divider ratio (--ratio, or ratio in the setup file)", r.TestVoltage_v, nom.Peak_v/1e3)})
+	case nom.Peak_v > 0 && r.TestVoltage_v > 100*nom.Peak_v:
+		row.Warnings = append(row.Warnings, Warning{"nominal-implausible", fmt.Sprintf("the nominal test voltage %.4g V is below 1 %% of the measured %.4g kV: was it meant with a unit (\"300 kV\")?", nom.Peak_v, r.TestVoltage_v/1e3)})
+	case nom.Peak_v == 0 && r.TestVoltage_v < 1e3:
+		row.Warnings = append(row.Warnings, Warning{"ratio-missing", fmt.Sprintf("the test voltage is only %.4g V: if this is a divider's low side, give its ratio (--ratio, or ratio in the setup file)", r.TestVoltage_v)})
 	}
 	// Judged on what could be measured; what could not leaves compliance unshown.
 	unmeasured := impulse.Unmeasured(r, nom)

@@ -373,3 +373,22 @@ func TestStatisticsPerFamilyAndPolarity(t *testing.T) {
 	}
 	assert.Equal(t, map[string]int{"lightning, positive": 1, "lightning, negative": 1, "switching, positive": 1}, groups)
 }
+
+// Scale slips get a hint: a nominal a hundred times below the measurement (volts written
+// where kilovolts were meant), and with no nominal, a test voltage under a kilovolt.
+func TestScaleSlipHints(t *testing.T) {
+	codes := func(r shot.Row) string {
+		var c []string
+		for _, w := range r.Warnings {
+			c = append(c, w.Code)
+		}
+		return strings.Join(c, " ")
+	}
+	cfg := shot.NewConfig()
+	cfg.Nominal.Peak_v = 300 // "300" taken as volts
+	assert.Contains(t, codes(shot.Evaluate(record(t, 1.2, 9), "a.csv", cfg).Rows[0]), "nominal-implausible")
+	rec := record(t, 1.2, 9)
+	synth.Scale(&rec.Channels[0], 1.0/1000)
+	assert.Contains(t, codes(shot.Evaluate(rec, "a.csv", shot.NewConfig()).Rows[0]), "ratio-missing")
+	assert.NotContains(t, codes(shot.Evaluate(record(t, 1.2, 9), "a.csv", shot.NewConfig()).Rows[0]), "ratio-missing")
+}
