@@ -52,16 +52,25 @@ func TestBadCellInsideTheData(t *testing.T) {
 	}
 }
 
-// A last row without its line end, as a cut copy leaves it, is kept with a warning.
-func TestUnendedLastLineWarns(t *testing.T) {
-	body := "t,U\n0,1\n1e-9,2\n2e-9,3\n3e-9,4\n4e-9,5\n5e-9,6\n6e-9,7\n7e-9,8\n8e-9,9"
+// A last row without its line end, as a cut copy leaves it, is left out with a warning:
+// "9000" cut to "9" still reads as a number, a wrong one.
+func TestUnendedLastLineLeftOut(t *testing.T) {
+	body := "t,U\n0,1000\n1e-9,2000\n2e-9,3000\n3e-9,4000\n4e-9,5000\n5e-9,6000\n6e-9,7000\n7e-9,8000\n8e-9,9"
 	rec, err := ReadText(strings.NewReader(body), "x.csv", TextOptions{})
 	require.NoError(t, err)
 	require.Len(t, rec.Warnings, 1)
-	assert.Contains(t, rec.Warnings[0], "line 10, the last, has no line end")
-	rec, err = ReadText(strings.NewReader(body+"\n"), "x.csv", TextOptions{})
+	assert.Contains(t, rec.Warnings[0], "line 10, the last, has no line end and is left out")
+	require.Len(t, rec.Channels[0].Samples, 8)
+	assert.Equal(t, 8000.0, rec.Channels[0].Samples[7])
+	rec, err = ReadText(strings.NewReader(body+"000\n"), "x.csv", TextOptions{})
 	require.NoError(t, err)
 	assert.Empty(t, rec.Warnings)
+	require.Len(t, rec.Channels[0].Samples, 9)
+	// cut inside the time field: the row does not scan and is left out the same way
+	rec, err = ReadText(strings.NewReader(body[:len(body)-4]), "x.csv", TextOptions{})
+	require.NoError(t, err)
+	require.Len(t, rec.Channels[0].Samples, 8)
+	assert.Contains(t, rec.Warnings[0], "left out")
 }
 
 // A file with a capture's header row and no rows yet is a capture (cut before its

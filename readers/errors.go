@@ -23,6 +23,7 @@ var (
 	ErrHeader       = errors.New("bad header")
 	ErrSidecar      = errors.New("bad raw description")
 	ErrNotAFile     = errors.New("not a regular file")
+	ErrNotCapture   = errors.New("not a capture")
 )
 
 // ParseError is a read failure with its place in the file. Line and Column are 1-based

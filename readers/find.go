@@ -12,11 +12,11 @@ import (
 // folder's files sorted, each file once. Symbolic links are followed, to files and to
 // folders, and a link back into a folder already being walked is not walked again. In
 // folders it leaves out hidden entries, raw descriptions and entries for which leave
-// returns true (a caller's own files and folders); it names in skipped, with what they
-// are, the files whose content says they are not captures and the special files (named
+// returns true (a caller's own files and folders; when it gives a reason too, the entry
+// is named in skipped with it); it names in skipped, with what they are, the files whose content says they are not captures and the special files (named
 // pipes, devices, sockets). A path given that is not a folder is always kept, so that a
 // mistake in it gets a message when it is read.
-func Find(paths []string, leave func(path string, d fs.DirEntry) bool) (found, skipped []string, err error) {
+func Find(paths []string, leave func(path string, d fs.DirEntry) (bool, string)) (found, skipped []string, err error) {
 	seen := map[string]bool{}
 	add := func(p string) {
 		a, _ := filepath.Abs(p)
@@ -47,8 +47,16 @@ func Find(paths []string, leave func(path string, d fs.DirEntry) bool) (found, s
 		var files, dirs []string
 		for _, d := range entries {
 			p := filepath.Join(dir, d.Name())
-			if strings.HasPrefix(d.Name(), ".") || strings.HasSuffix(d.Name(), SidecarSuffix) || (leave != nil && leave(p, d)) {
+			if strings.HasPrefix(d.Name(), ".") || strings.HasSuffix(d.Name(), SidecarSuffix) {
 				continue
+			}
+			if leave != nil {
+				if out, why := leave(p, d); out {
+					if why != "" {
+						skipped = append(skipped, p+" ("+why+")")
+					}
+					continue
+				}
 			}
 			st, err := os.Stat(p) // through a link, to what it points at
 			switch {

@@ -2,6 +2,7 @@ package readers
 
 import (
 	"bufio"
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -140,7 +141,16 @@ func readOne(br *bufio.Reader, head []byte, name string, opt Options, r io.Reade
 			if len(head) == 0 {
 				return nil, fileErr(name, ErrEmpty, "")
 			}
-			return nil, byteErr(name, int64(binaryByte(head)), ErrBinary, "binary data with no description: put a "+SidecarSuffix+" file beside it or give --raw-sample and --interval")
+			// advice that fits the file: an image is no capture at all, and text that
+			// turns to binary is damaged, neither needs a raw description
+			if ok, what := IsCapture(head); !ok {
+				return nil, fileErr(name, ErrNotCapture, what)
+			}
+			off := binaryByte(head)
+			if off > 0 && bytes.IndexByte(head[:off], '\n') >= 0 {
+				return nil, byteErr(name, int64(off), ErrBinary, "the file begins as text and turns to binary data here: damaged, or cut off while it was written?")
+			}
+			return nil, byteErr(name, int64(off), ErrBinary, "binary data with no description: put a "+SidecarSuffix+" file beside it or give --raw-sample and --interval")
 		}
 		return readRaw(br, name, *opt.Raw, sizeHint(r, opt))
 	}

@@ -24,6 +24,7 @@ type headReader struct {
 	off      int64 // bytes read
 	complete bool
 	unended  int // the last line when it has no line end, 0 otherwise
+	cutRow   int // that line, when it is left out as a row cut in half
 	arena    []byte
 	kept     int    // lines of the first chunk, kept when a long head is trimmed
 	dropped  [2]int // first and last line dropped from the middle of a long head
@@ -66,6 +67,31 @@ func (h *headReader) read(lines []sniffLine, limit int) ([]sniffLine, error) {
 		}
 	}
 	return lines, nil
+}
+
+// cut reports whether a row that failed to read is the file's last line cut in half (no
+// line end, and a row that does not scan): a file cut short while it was written keeps
+// its whole rows, and the cut one is left out with a warning.
+func (h *headReader) cut(no int, err error) bool {
+	if no != h.unended || (!errors.Is(err, ErrRagged) && !errors.Is(err, ErrSyntax) && !errors.Is(err, ErrEmptyCell)) {
+		return false
+	}
+	h.cutRow = no
+	return true
+}
+
+// leaveOut reports whether line no is a data row without a line end after whole rows: it
+// is left out even when it scans, since "123456" cut to "12" is still a number.
+func (h *headReader) leaveOut(no int, line []byte, rr *rowReader) bool {
+	if no != h.unended || rr.nfull == 0 {
+		return false
+	}
+	t := bytes.TrimLeft(line, " \t")
+	if len(t) == 0 || !startsNumber(t[0]) {
+		return false // a footer or a blank end: read as any other line
+	}
+	h.cutRow = no
+	return true
 }
 
 // more reads the next chunk of a head that holds no data yet. Of a long head it keeps
@@ -175,7 +201,11 @@ func (rr *rowReader) add(line []byte, no int) error {
 			return rr.edge(no, empty)
 		}
 		if cause != nil {
-			return lineErr(rr.file, no, col+1, cause, quote(fieldAt(line, col, d.Delim)))
+			detail := quote(fieldAt(line, col, d.Delim))
+			if cause == ErrSyntax {
+				detail += " where a number should be: mend or remove the row (hvshot does not guess a value)"
+			}
+			return lineErr(rr.file, no, col+1, cause, detail)
 		}
 		return lineErr(rr.file, no, 0, ErrRagged, fmt.Sprintf("%d fields, the data start at line %d with %d", k, d.DataLine, d.Fields))
 	}

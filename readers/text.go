@@ -173,7 +173,10 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 	rr := newRowReader(p, file, opt.SizeHint, lines)
 	for _, sl := range lines {
 		if sl.no >= p.d.DataLine {
-			if err := rr.add(sl.text, sl.no); err != nil {
+			if h.leaveOut(sl.no, sl.text, rr) {
+				continue
+			}
+			if err := rr.add(sl.text, sl.no); err != nil && !h.cut(sl.no, err) {
 				return nil, err
 			}
 		}
@@ -203,6 +206,9 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 			h.unended = lineNo
 		}
 		line = trimEOL(line)
+		if h.leaveOut(lineNo, line, rr) {
+			break
+		}
 		if fast && len(line) > 0 && startsNumber(line[0]) && rr.pend == 0 {
 			if k, _, cause := scanRow(line, delim, dec, row); cause == nil && k == width {
 				for c := range cols {
@@ -219,18 +225,18 @@ func ReadText(r io.Reader, file string, opt TextOptions) (*waveform.Record, erro
 				continue
 			}
 		}
-		if err := rr.add(line, lineNo); err != nil {
-			return nil, err
+		if aerr := rr.add(line, lineNo); aerr != nil && !h.cut(lineNo, aerr) {
+			return nil, aerr
 		}
 		if err == io.EOF {
 			break
 		}
 	}
 	rec, err := p.build(rr, opt, file)
-	if err == nil && h.unended > 0 && h.unended == rr.lastLine {
+	if err == nil && h.cutRow > 0 {
 		// Writers end every line; a last row without its end is what a copy or a save
-		// cut short leaves, and its last number may itself be cut.
-		rec.Warnings = append(rec.Warnings, fmt.Sprintf("line %d, the last, has no line end: the file may have been cut off while it was written (the row is kept)", h.unended))
+		// cut short leaves, and a number cut in half can still read as a number.
+		rec.Warnings = append(rec.Warnings, fmt.Sprintf("line %d, the last, has no line end and is left out: a file cut short while it was written can end in a cut number", h.cutRow))
 	}
 	return rec, err
 }

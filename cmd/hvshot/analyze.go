@@ -94,6 +94,9 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if o.jobs < 1 {
 		return e.usage(name, "--jobs: at least 1, not %d", o.jobs)
 	}
+	if o.out == "-" {
+		return e.usage(name, "--out names a folder; the table goes to stdout already (--format csv or jsonl)")
+	}
 	if _, _, err := configure(o, ""); err != nil {
 		return e.usage(name, "%v", err) // the flags, before any file is looked at
 	}
@@ -118,8 +121,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 			return e.fail(name, err)
 		}
 		if len(skipped) > 0 && !o.quiet {
-			what := map[bool]string{true: "file that is not a capture", false: "files that are not captures"}[len(skipped) == 1]
-			fmt.Fprintf(e.stderr, "hvshot analyze: skipped %d %s: %s\n", len(skipped), what, strings.Join(skipped, ", "))
+			fmt.Fprintf(e.stderr, "hvshot analyze: left out %d (not captures): %s\n", len(skipped), strings.Join(skipped, ", "))
 		}
 		if len(files) == 0 {
 			return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))

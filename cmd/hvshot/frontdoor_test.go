@@ -35,7 +35,8 @@ func TestFolderScanTakesCapturesOnly(t *testing.T) {
 	code, out, stderr := runCmd("analyze", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(t.TempDir(), "o"), dir)
 	assert.Equal(t, exitOK, code, stderr)
 	assert.Equal(t, 2, strings.Count(out, "\n"), "two captures, two rows: %s", out)
-	assert.Contains(t, stderr, "skipped 3 files that are not captures")
+	assert.Contains(t, stderr, "left out 4 (not captures)")
+	assert.Contains(t, stderr, "earlier (an hvshot output folder)")
 	assert.Contains(t, stderr, "notes.txt (text with no lines of numbers)")
 	assert.Contains(t, stderr, "screen.png (a PNG image)")
 	assert.Contains(t, stderr, "export.csv (an hvshot result file)")
@@ -281,4 +282,25 @@ func TestSetupFilesBelongToTheirCaptures(t *testing.T) {
 	for _, e := range entries {
 		assert.NotContains(t, e.Name(), "hvshot-report")
 	}
+}
+
+// The demo takes its folder as a report's is taken: a folder holding someone's files is
+// refused untouched, and a second demo into its own folder replaces the first.
+func TestDemoFolderIsTakenSafely(t *testing.T) {
+	dir := t.TempDir()
+	notes := filepath.Join(dir, "notes.txt")
+	require.NoError(t, os.WriteFile(notes, []byte("mine"), 0o644))
+	code, _, stderr := runCmd("demo", "--plots", "none", "--out", dir)
+	assert.Equal(t, exitUsage, code)
+	assert.Contains(t, stderr, "did not write (notes.txt")
+	entries, _ := os.ReadDir(dir)
+	assert.Len(t, entries, 1, "nothing written beside the user's file")
+	own := filepath.Join(dir, "demo")
+	for run := 0; run < 2; run++ {
+		code, _, stderr = runCmd("demo", "--plots", "none", "--out", own)
+		require.Equal(t, exitOK, code, stderr)
+	}
+	caps, _ := os.ReadDir(filepath.Join(own, "captures"))
+	assert.NotEmpty(t, caps)
+	assert.FileExists(t, filepath.Join(own, "report", "report.html"))
 }

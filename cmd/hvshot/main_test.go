@@ -8,6 +8,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"flag"
+	"fmt"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -136,6 +137,7 @@ func TestBadFilesFolder(t *testing.T) {
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "empty.csv"), nil, 0o644))
 	full := mustRead(t, filepath.Join(dir, "good1.csv"))
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "truncated.csv"), full[:len(full)/2-7], 0o644))
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "cutearly.csv"), full[:len(full)/8-3], 0o644))
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "garbage.csv"), []byte("\x00\x13\x99 not a capture \xff\xfe"), 0o644))
 	noImp := spec(1.2, 50, 300e3, 4)
 	noImp.Peak_v, noImp.Noise, noImp.Offset_v = 1, 50, 0
@@ -157,18 +159,25 @@ func TestBadFilesFolder(t *testing.T) {
 		require.NoError(t, json.Unmarshal(sc.Bytes(), &m))
 		rows[filepath.Base(m["file"].(string))] = m
 	}
-	for _, f := range []string{"good1.csv", "good2.csv", "empty.csv", "truncated.csv", "garbage.csv", "noimpulse.csv", "clipped.csv", "otherchannel.csv"} {
+	for _, f := range []string{"good1.csv", "good2.csv", "empty.csv", "truncated.csv", "cutearly.csv", "garbage.csv", "noimpulse.csv", "clipped.csv", "otherchannel.csv"} {
 		require.Contains(t, rows, f, "every file gets a row")
 	}
 	assert.Equal(t, "pass", rows["good1.csv"]["verdict"])
-	for _, f := range []string{"empty.csv", "truncated.csv", "garbage.csv", "noimpulse.csv", "otherchannel.csv"} {
+	for _, f := range []string{"empty.csv", "garbage.csv", "noimpulse.csv", "otherchannel.csv"} {
 		assert.Equal(t, "error", rows[f]["verdict"], f)
 		assert.Contains(t, rows[f]["error"], f, "the error names the file")
 	}
 	assert.Contains(t, rows["noimpulse.csv"]["error"], "no impulse")
 	assert.Contains(t, rows["empty.csv"]["error"], "empty")
 	assert.Contains(t, rows["otherchannel.csv"]["error"], "probe7")
-	assert.Contains(t, rows["truncated.csv"]["error"], ":", "line named")
+	// a file cut off mid-row: the broken last row is left out, named by its line, and the
+	// rest is judged; cut before the tail reaches half-value, T2 is unmeasured, never a pass
+	for _, f := range []string{"truncated.csv", "cutearly.csv"} {
+		assert.Contains(t, fmt.Sprint(rows[f]["warnings"]), "the last, has no line end and is left out", f)
+		assert.Regexp(t, `line [0-9]+`, fmt.Sprint(rows[f]["warnings"]), f)
+	}
+	assert.Equal(t, "incomplete", rows["cutearly.csv"]["verdict"], fmt.Sprint(rows["cutearly.csv"]))
+	assert.Contains(t, rows["cutearly.csv"]["unmeasured"], "time_to_half")
 	assert.Contains(t, stdout, `"code":"clipped"`)
 	assert.Equal(t, before, hashDir(t, dir), "inputs unchanged")
 	leftovers, _ := filepath.Glob(filepath.Join(out, ".*tmp*"))

@@ -26,12 +26,11 @@ func collectFiles(args []string, outDir string) (files []input, skipped []string
 	if outDir != "" {
 		absOut, _ = filepath.Abs(outDir)
 	}
-	paths, skipped, err := readers.Find(args, func(p string, d fs.DirEntry) bool {
-		if !d.IsDir() {
-			return d.Name() == shot.SetupFileName
+	paths, skipped, err := readers.Find(args, func(p string, d fs.DirEntry) (bool, string) {
+		if ap, _ := filepath.Abs(p); !d.IsDir() || ap == absOut {
+			return d.Name() == shot.SetupFileName || ap == absOut, ""
 		}
-		ap, _ := filepath.Abs(p)
-		return ap == absOut || folder.Owned(p)
+		return folder.Owned(p), "an hvshot output folder"
 	})
 	ids := shot.Identities(paths)
 	for i, p := range paths {

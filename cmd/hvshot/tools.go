@@ -191,10 +191,21 @@ func demoCommand(fs *flag.FlagSet) func([]string, *env) int {
 			}
 			dir = d
 		}
-		caps := filepath.Join(dir, "captures")
-		if err := writeDemo(caps); err != nil {
+		// the folder is taken as a report's is: never one holding files hvshot did not write
+		root, err := folder.Open(dir, folder.Options{Replace: true, Clean: []string{"captures", "report"}})
+		if err != nil {
+			return e.usage("demo", "--out: %v", err)
+		}
+		files, err := synth.DemoFiles()
+		for _, f := range files {
+			if err == nil {
+				err = root.WriteBytes("captures/"+f.Name, f.Data)
+			}
+		}
+		if root.Close(); err != nil {
 			return e.fail("demo", err)
 		}
+		caps := filepath.Join(dir, "captures")
 		fmt.Fprintf(e.stderr, "invented demo series written to %s\n\n", caps)
 		status := find("analyze").run([]string{"--out", filepath.Join(dir, "report"), "--force", "--quiet", "--plots", *plots, caps}, e)
 		fmt.Fprintf(e.stderr, "\nreport: %s\n(the demo's out-of-tolerance and unreadable shots are deliberate; its exit status is 0 when the demo ran)\n",
@@ -204,20 +215,6 @@ func demoCommand(fs *flag.FlagSet) func([]string, *env) int {
 		}
 		return exitOK
 	}
-}
-
-// writeDemo writes the invented demo series into dir.
-func writeDemo(dir string) error {
-	files, err := synth.DemoFiles()
-	if err == nil {
-		err = os.MkdirAll(dir, 0o755)
-	}
-	for _, f := range files {
-		if err == nil {
-			err = folder.WriteFile(filepath.Join(dir, f.Name), f.Data)
-		}
-	}
-	return err
 }
 
 func selfcheckCommand(fs *flag.FlagSet) func([]string, *env) int {

@@ -102,7 +102,7 @@ func plan(rec *waveform.Record, cfg *Config) ([]planned, []Warning, error) {
 				if s.Optional {
 					continue
 				}
-				return nil, nil, fmt.Errorf("setup channel %d (%s, %s) is not in the file, which has %s", k+1, s.Role, s.describe(), channelNames(rec))
+				return nil, nil, fmt.Errorf("setup channel %d (%s, %s) is not in the file, which has %s: correct its match, or mark it optional = true if some captures lack it", k+1, s.Role, s.describe(), channelNames(rec))
 			}
 			out = append(out, planned{ch: &rec.Channels[idx[0]], index: idx[0], setup: s})
 		}
