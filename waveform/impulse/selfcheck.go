@@ -23,7 +23,33 @@ type Check struct {
 	Err_pct     float64 // relative error in percent, or the difference in points when Abs
 	Limit_pct   float64
 	Abs         bool // the limit is in percentage points (overshoot), not percent
-	OK          bool
+	// Expect and Found: an outcome that is not a number (a verdict, "no impulse found",
+	// a shape, a polarity); such a line is OK when they agree. Empty on numeric lines.
+	Expect string `json:",omitempty"`
+	Found  string `json:",omitempty"`
+	OK     bool
+	// Known: a known miss (KnownMisses): the limit stays as it should be and the line
+	// stays not OK, but it does not fail the self-check.
+	Known bool `json:",omitempty"`
+}
+
+// KnownMisses are the checks hvshot is known to miss, each with what goes wrong
+// (docs/selfcheck.md, "Known misses"). Their limits are left as they should be; a test
+// asserts that the self-check's misses are exactly these, so a fix shows up as a test
+// to update, never as a silent change.
+var KnownMisses = map[string]string{
+	"shunt, 10/350, 0.5 % noise|peak current":    "the current's peak is the largest raw sample: noise of 0.5 % lifts it by about 2.5 noise RMS",
+	"shunt, 10/350, 0.5 % noise|front time T1":   "t10 and t90 are crossings of the raw samples: on the 10/350's slow top the noise moves t90",
+	"shunt, 10/350, 0.5 % noise|time to half T2": "t50 is the first downward crossing of the raw samples: on the slow tail (5 A a sample against 250 A of noise) noise crosses early",
+}
+
+// markKnown flags the lines listed in KnownMisses.
+func markKnown(lines []Check) {
+	for i := range lines {
+		if _, ok := KnownMisses[lines[i].Case+"|"+lines[i].Param]; ok {
+			lines[i].Known = true
+		}
+	}
 }
 
 type refsDoc struct {
@@ -52,6 +78,10 @@ func dexp(tau1, tau2, peak, td, dt float64, n int, noise float64, seed uint64) [
 func SelfCheck() ([]Check, error) {
 	var doc refsDoc
 	if err := json.Unmarshal(selfcheckRefs, &doc); err != nil {
+		return nil, err
+	}
+	var more groupsDoc
+	if err := json.Unmarshal(selfcheckRefs, &more); err != nil {
 		return nil, err
 	}
 	var out []Check
@@ -93,7 +123,7 @@ func SelfCheck() ([]Check, error) {
 			res, err := Evaluate(x, 0, dt, s)
 			cs := name + " (" + v.label + ")"
 			if err != nil {
-				out = append(out, Check{Case: cs, Param: "evaluation: " + err.Error()})
+				out = append(out, Check{Case: cs, Param: ParamOutcome, Expect: "evaluated", Found: errOutcome(err)})
 				continue
 			}
 			// Limits: clean 0.1 % (Ut) and 0.5 % (times), the accuracy hvshot claims;
@@ -124,7 +154,7 @@ func SelfCheck() ([]Check, error) {
 		cs := fmt.Sprintf("oscillation %.1f MHz, %.0f %%", o["f_mhz"], 100*o["amp"])
 		res, err := Evaluate(x, 0, o["dt_s"], s)
 		if err != nil {
-			out = append(out, Check{Case: cs, Param: "evaluation: " + err.Error()})
+			out = append(out, Check{Case: cs, Param: ParamOutcome, Expect: "evaluated", Found: errOutcome(err)})
 			continue
 		}
 		cmp(cs, "test voltage", o["test_voltage"], res.TestVoltage_v, 0.2)
@@ -148,11 +178,13 @@ func SelfCheck() ([]Check, error) {
 	}
 	res, err := Evaluate(x, 0, dt, s)
 	if err != nil {
-		out = append(out, Check{Case: "handbook chopped at 3 us", Param: "evaluation: " + err.Error()})
+		out = append(out, Check{Case: "handbook chopped at 3 us", Param: ParamOutcome, Expect: "evaluated", Found: errOutcome(err)})
 	} else {
 		cmp("handbook chopped at 3 us", "time to chopping Tc", tc-(2e-6+hb["virtual_origin_s"]), res.ChopTime_s, 0.5)
 		cmp("handbook chopped at 3 us", "front time T1", hb["front_time_s"], res.FrontTime_s, 1)
 		cmp("handbook chopped at 3 us", "collapse duration", coll, res.Collapse_s, 5)
 	}
+	out = append(out, groups(more, doc.Shapes, s)...)
+	markKnown(out)
 	return out, nil
 }
