@@ -378,3 +378,23 @@ func NoiseFromDifferences(x []float64) float64 {
 	sort.Float64s(d)
 	return d[len(d)/2] / (0.6745 * math.Sqrt2)
 }
+
+// MovingMean returns the mean of x over 2w+1 samples centred on each, fewer at the
+// ends, in one pass: a smoothing that shifts nothing in time.
+func MovingMean(x []float64, w int) []float64 {
+	out := make([]float64, len(x))
+	var sum float64
+	lo, hi := 0, 0 // x[lo:hi] is in the sum
+	for i := range x {
+		for hi < len(x) && hi <= i+w {
+			sum += x[hi]
+			hi++
+		}
+		for lo < i-w {
+			sum -= x[lo]
+			lo++
+		}
+		out[i] = sum / float64(hi-lo)
+	}
+	return out
+}

@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"github.com/hvshot/hvshot/waveform"
+	"gonum.org/v1/gonum/mat"
 )
 
 // Constants: CODATA 2018 values of the magnetic and electric constants.
@@ -559,7 +560,107 @@ func MeasuredCurrent(i []float64, t0, dt float64) (*CurrentResult, error) {
 	if err := currentParams(res, t0, dt, bl.NoiseRMS); err != nil {
 		return nil, err
 	}
+	if bl.NoiseRMS > 0 {
+		settleNoisy(res, t0, dt, bl.NoiseRMS)
+	}
+	for k, w := range res.Warnings {
+		if w.Code == "integration-drift" { // nothing was integrated: say what it can be
+			res.Warnings[k] = Warning{Code: "current-at-end", Text: fmt.Sprintf("the current at the record's end is %.2g %% of the peak: the record ends before the current does, or the channel's zero moved", res.End_pct)}
+		}
+	}
 	return res, nil
+}
+
+// settleNoisy measures the peak and the crossings of a noisy measured current again,
+// from a smoothed copy: read off the raw samples, the peak is the largest noise spike
+// on a broad crest and the first 50 % crossing comes early on a slow tail (a 10/350
+// current under 0.5 % noise: +1.2 % in the peak, -4.6 % in T2). Each smoothing window
+// is a small part of the time it serves (an eighth of the rise for the front, a
+// fortieth of T2 for the tail), so a clean current keeps its figures; the peak is the
+// vertex of a parabola fitted to the raw samples of the crest, above 97 % of it.
+func settleNoisy(r *CurrentResult, t0, dt, noise float64) {
+	rel := noise / r.Peak_a
+	rise := int(r.Rise_s / dt * math.Min(1.0/8, math.Max(1.0/20, 16*rel)))
+	band := math.Min(0.03, math.Max(0.005, 4*rel))
+	if rise < 2 || math.IsNaN(r.Rise_s) {
+		return // a front of a few samples: nothing to smooth without bending it
+	}
+	cur := r.Current
+	mag := func(x []float64) []float64 {
+		if r.Polarity < 0 {
+			negate(x)
+		}
+		return x
+	}
+	s := mag(waveform.MovingMean(cur, rise))
+	ip := 0
+	for i, v := range s {
+		if v > s[ip] {
+			ip = i
+		}
+	}
+	lo, hi := ip, ip
+	for lo > 0 && s[lo-1] >= (1-band)*s[ip] {
+		lo--
+	}
+	for hi < len(s)-1 && s[hi+1] >= (1-band)*s[ip] {
+		hi++
+	}
+	peak, at := s[ip], float64(ip)
+	if p, x, ok := crest(cur, lo, hi, float64(r.Polarity)); ok && x >= float64(lo) && x <= float64(hi) {
+		peak, at = p, x
+	}
+	t10 := waveform.LastCrossUp(s, 0.1*peak, 0, ip+1)
+	t90 := waveform.CrossUp(s, 0.9*peak, int(math.Max(0, t10)), ip+1)
+	if t10 < 0 || t90 < 0 {
+		return
+	}
+	rawT2 := r.TimeToHalf_s
+	r.Peak_a, r.PeakTime_s = peak, t0+at*dt
+	r.Rise_s = (t90 - t10) * dt
+	r.Front_s = 1.25 * r.Rise_s
+	r.Origin_s = t0 + t10*dt - 0.1*r.Front_s
+	tail := s
+	if w := int(rawT2 / dt / 40); w > rise && !math.IsNaN(rawT2) {
+		tail = mag(waveform.MovingMean(cur, w))
+	}
+	r.TimeToHalf_s = math.NaN()
+	if t50 := waveform.CrossDown(tail, 0.5*peak, ip, len(tail)); t50 >= 0 {
+		r.TimeToHalf_s = t0 + t50*dt - r.Origin_s
+	}
+}
+
+// crest fits a parabola to sign*x[lo..hi] by least squares and returns its vertex.
+func crest(x []float64, lo, hi int, sign float64) (peak, at float64, ok bool) {
+	if hi-lo < 4 {
+		return 0, 0, false
+	}
+	c, h := float64(lo+hi)/2, float64(hi-lo)/2
+	var s [5]float64  // sums of u^k, k = 0..4
+	var sy [3]float64 // sums of y u^k, k = 0..2
+	for i := lo; i <= hi; i++ {
+		u := (float64(i) - c) / h
+		y := sign * x[i]
+		uk := 1.0
+		for k := 0; k < 5; k++ {
+			s[k] += uk
+			if k < 3 {
+				sy[k] += y * uk
+			}
+			uk *= u
+		}
+	}
+	a := mat.NewDense(3, 3, []float64{s[0], s[1], s[2], s[1], s[2], s[3], s[2], s[3], s[4]})
+	var coef mat.VecDense
+	if err := coef.SolveVec(a, mat.NewVecDense(3, sy[:])); err != nil {
+		return 0, 0, false
+	}
+	a0, a1, a2 := coef.AtVec(0), coef.AtVec(1), coef.AtVec(2)
+	if !(a2 < 0) {
+		return 0, 0, false
+	}
+	u := -a1 / (2 * a2)
+	return a0 + a1*u + a2*u*u, c + u*h, true
 }
 
 // MeasuredField gives a channel that records the field itself, in V/m (a calibrated

@@ -2,7 +2,9 @@ package probe
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
+	"math/rand"
 	"os"
 	"testing"
 
@@ -245,4 +247,53 @@ func TestEstimateDroopRecordStartingBeforeZero(t *testing.T) {
 		assert.InEpsilon(t, 26e-6, r.Tau_s, 0.02, "record starting at %g s", t0)
 		assert.InEpsilon(t, 15e3, r.Peak_v_per_m, 0.02, "record starting at %g s", t0)
 	}
+}
+
+// A current recorded directly under noise keeps its IEC 62475 parameters: the drives of
+// the self-check's channel cases (testdata/reference/impulse_refs.json, parameters by
+// brentq on the closed form: a 10/350 and a 1.7/10.6 double exponential) with Gaussian
+// noise of 0.01 % to 1 % of the peak, four noise samples each. Limits: near-clean, hvshot's
+// clean claim (peak 0.1 %, times 0.5 %); at 0.5 %, IEC 61083-1's reference-recorder
+// limits (from memory: peak 0.7 %, T1 2 %, T2 1.5 %); at 1 %, ours (1 %, 3 %, 2 %).
+// Read off the raw samples, the 10/350 at 0.5 % gave +1.2 % in the peak and -4.6 % in T2.
+func TestMeasuredCurrentUnderNoise(t *testing.T) {
+	b, err := os.ReadFile("../../testdata/reference/impulse_refs.json")
+	require.NoError(t, err)
+	var raw struct {
+		Channels []map[string]any `json:"channels"`
+	}
+	require.NoError(t, json.Unmarshal(b, &raw))
+	limits := []struct{ noise, peak, t1, t2 float64 }{
+		{1e-4, 0.1, 0.5, 0.5}, {5e-3, 0.7, 2, 1.5}, {1e-2, 1, 3, 2},
+	}
+	cases := 0
+	for _, c := range raw.Channels {
+		if c["kind"] == "antenna" {
+			continue // a field drive, not a current
+		}
+		num := func(k string) float64 { return c[k].(float64) }
+		k, tau1, tau2, tOn, dt, n := num("k"), num("tau1_s"), num("tau2_s"), num("t_on_s"), num("dt_s"), int(num("n"))
+		ref := c["reference"].(map[string]any)
+		peak, t1, t2 := ref["peak"].(float64), ref["front_time_s"].(float64), ref["time_to_half_s"].(float64)
+		for _, l := range limits {
+			for seed := int64(1); seed <= 4; seed++ {
+				g := rand.New(rand.NewSource(seed))
+				x := make([]float64, n)
+				for i := range x {
+					if u := float64(i)*dt - tOn; u > 0 {
+						x[i] = k * (math.Exp(-u/tau1) - math.Exp(-u/tau2))
+					}
+					x[i] += l.noise * peak * g.NormFloat64()
+				}
+				r, err := MeasuredCurrent(x, 0, dt)
+				require.NoError(t, err)
+				what := fmt.Sprintf("%s %s, noise %.2g, seed %d", c["kind"], c["label"], l.noise, seed)
+				assert.InEpsilon(t, peak, r.Peak_a, l.peak/100, what)
+				assert.InEpsilon(t, t1, r.Front_s, l.t1/100, what)
+				assert.InEpsilon(t, t2, r.TimeToHalf_s, l.t2/100, what)
+				cases++
+			}
+		}
+	}
+	assert.GreaterOrEqual(t, cases, 12*4, "the channel cases were found")
 }
