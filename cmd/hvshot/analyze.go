@@ -120,9 +120,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		if files, skipped, err = collectFiles(inputs, o.out); err != nil {
 			return e.fail(name, err)
 		}
-		if len(skipped) > 0 && !o.quiet {
-			fmt.Fprintf(e.stderr, "hvshot analyze: left out %d (not captures): %s\n", len(skipped), strings.Join(skipped, ", "))
-		}
+		tellLeftOut(e, name, skipped, o.quiet, map[string]bool{})
 		if len(files) == 0 {
 			return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
 		}
@@ -164,7 +162,9 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		for _, s := range shots {
 			lost = lost || s.PlotsLost()
 			rows, traces = append(rows, s.Rows...), append(traces, s.Traces...)
-			printRows(e, o.format, csvOut, s.Rows)
+			if o.format != "table" {
+				printRows(e, o.format, csvOut, s.Rows)
+			}
 		}
 		prog.Step(i + 1)
 	})
@@ -190,7 +190,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	return exitStatus(sum)
 }
 
-// printRows streams finished rows to stdout as csv or jsonl.
+// printRows streams finished rows to stdout as csv, jsonl or table lines.
 func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
 	for i := range rows {
 		switch format {
@@ -199,6 +199,8 @@ func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
 			e.stdout.Write(append(b, '\n'))
 		case "csv":
 			w.Write(rows[i].CSVRecord())
+		case "table": // a row at a time, as watch prints them
+			fmt.Fprintln(e.stdout, report.Line(&rows[i]))
 		}
 	}
 	w.Flush()

@@ -18,6 +18,7 @@ import (
 	flag "github.com/spf13/pflag"
 
 	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform/shot"
 )
 
 // Version is the tool's version, shown in reports.
@@ -133,7 +134,9 @@ func (c *command) run(args []string, e *env) int {
 			}
 			msg = fmt.Sprintf("--%s: %q is not %s", m[2], m[1], kind)
 		} else if name, ok := strings.CutPrefix(msg, "unknown flag: --"); ok {
-			if near := nearest(fs, name); near != "" {
+			var names []string
+			fs.VisitAll(func(f *flag.Flag) { names = append(names, f.Name) })
+			if near := shot.Nearest(name, names); near != "" {
 				msg += fmt.Sprintf(" (did you mean --%s?)", near)
 			}
 		}
@@ -153,37 +156,6 @@ func (e *env) usage(cmd, format string, a ...any) int {
 func (e *env) fail(cmd string, err error) int {
 	fmt.Fprintf(e.stderr, "hvshot %s: %v\n", cmd, err)
 	return exitFileErrors
-}
-
-// nearest is the flag closest to a mistyped name, when it is close.
-func nearest(fs *flag.FlagSet, name string) string {
-	best, bestD := "", 3
-	fs.VisitAll(func(f *flag.Flag) {
-		if d := distance(name, f.Name); d < bestD {
-			best, bestD = f.Name, d
-		}
-	})
-	return best
-}
-
-// distance is the Levenshtein edit distance.
-func distance(a, b string) int {
-	prev := make([]int, len(b)+1)
-	for j := range prev {
-		prev[j] = j
-	}
-	for i := 1; i <= len(a); i++ {
-		cur := []int{i}
-		for j := 1; j <= len(b); j++ {
-			d := prev[j-1]
-			if a[i-1] != b[j-1] {
-				d = 1 + min(prev[j-1], prev[j], cur[j-1])
-			}
-			cur = append(cur, d)
-		}
-		prev = cur
-	}
-	return prev[len(b)]
 }
 
 // flagHelp lists the flags in words: a value's name from the backquoted word of its

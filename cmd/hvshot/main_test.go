@@ -281,9 +281,10 @@ func TestWatchPicksUpNewFile(t *testing.T) {
 	done := make(chan int)
 	var stdout, stderr bytes.Buffer
 	go func() {
-		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", quiet: true, jobs: 1, poll: 100 * time.Millisecond}, &env{stdout: &stdout, stderr: &stderr})
+		done <- watchDir(ctx, dir, w, &analyzeOpts{format: "jsonl", jobs: 1, poll: 100 * time.Millisecond}, &env{stdout: &stdout, stderr: &stderr})
 	}()
 	time.Sleep(300 * time.Millisecond)
+	require.NoError(t, os.WriteFile(filepath.Join(dir, "notes.txt"), []byte("Bay 2: the earth switch was checked twice.\n"), 0o644))
 	// copy a capture in: written elsewhere, then moved, as a scope's save would land
 	tmp := filepath.Join(t.TempDir(), "new.csv")
 	writeShot(t, tmp, spec(1.2, 50, 300e3, 9), "text")
@@ -302,4 +303,5 @@ func TestWatchPicksUpNewFile(t *testing.T) {
 	assert.Contains(t, string(b), "new.csv")
 	assert.Contains(t, string(b), "partial.csv", "a bad file gets its error row and watching goes on")
 	assert.FileExists(t, filepath.Join(out, "report.html"))
+	assert.Equal(t, 1, strings.Count(stderr.String(), "notes.txt (text with no lines of numbers)"), "a file left out is named, once: %s", stderr.String())
 }

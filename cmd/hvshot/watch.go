@@ -8,7 +8,6 @@ import (
 	"path/filepath"
 	"time"
 
-	"github.com/hvshot/hvshot/waveform/report"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -31,6 +30,7 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 	files := map[string]*state{}
 	shots := map[string][]*shot.Shot{} // by path, in place of earlier rows of the same file
 	var order []string
+	told := map[string]bool{} // left-out files already named
 	csvOut := csv.NewWriter(e.stdout)
 	if o.format == "csv" {
 		csvOut.Write(shot.CSVHeader())
@@ -41,7 +41,8 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 	tick := time.NewTicker(o.poll)
 	defer tick.Stop()
 	for {
-		list, _, _ := collectFiles([]string{dir}, w.out.Path)
+		list, skipped, _ := collectFiles([]string{dir}, w.out.Path)
+		tellLeftOut(e, "watch", skipped, o.quiet, told)
 		var ready []input
 		now := time.Now()
 		for _, in := range list {
@@ -75,11 +76,6 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 			shots[in.path] = got
 			for _, sh := range got {
 				printRows(e, o.format, csvOut, sh.Rows)
-				for i := range sh.Rows {
-					if o.format == "table" {
-						fmt.Fprintln(e.stdout, report.Line(&sh.Rows[i]))
-					}
-				}
 			}
 		})
 		if changed {

@@ -65,6 +65,18 @@ func channelNames(rec *waveform.Record) string {
 	return strings.Join(names, ", ")
 }
 
+// nearChannel suggests the file's channel a mistyped match was likely meant for.
+func nearChannel(match string, rec *waveform.Record) string {
+	names := make([]string, len(rec.Channels))
+	for i, c := range rec.Channels {
+		names[i] = c.Name
+	}
+	if near := Nearest(match, names); near != "" && match != "" {
+		return fmt.Sprintf(" (did you mean %q?)", near)
+	}
+	return ""
+}
+
 // sensorWords suggest a role from a channel's name (common practice in naming scope
 // channels after their sensor; ours to choose which words count).
 var sensorWords = []struct {
@@ -102,7 +114,7 @@ func plan(rec *waveform.Record, cfg *Config) ([]planned, []Warning, error) {
 				if s.Optional {
 					continue
 				}
-				return nil, nil, fmt.Errorf("setup channel %d (%s, %s) is not in the file, which has %s: correct its match, or mark it optional = true if some captures lack it", k+1, s.Role, s.describe(), channelNames(rec))
+				return nil, nil, fmt.Errorf("setup channel %d (%s, %s) is not in the file, which has %s: correct its match%s, or mark it optional = true if some captures lack it", k+1, s.Role, s.describe(), channelNames(rec), nearChannel(s.Match, rec))
 			}
 			out = append(out, planned{ch: &rec.Channels[idx[0]], index: idx[0], setup: s})
 		}
@@ -114,7 +126,7 @@ func plan(rec *waveform.Record, cfg *Config) ([]planned, []Warning, error) {
 		s := &cfg.Roles[k]
 		idx := s.matches(rec)
 		if len(idx) == 0 {
-			warns = append(warns, Warning{"role-unmatched", fmt.Sprintf("role %s for %q matches no channel; the file's channels are %s", s.Role, s.Match, channelNames(rec))})
+			warns = append(warns, Warning{"role-unmatched", fmt.Sprintf("role %s for %q matches no channel; the file's channels are %s%s", s.Role, s.Match, channelNames(rec), nearChannel(s.Match, rec))})
 		}
 		for _, i := range idx {
 			assigned[i] = s

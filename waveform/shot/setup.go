@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"math"
 	"path"
+	"reflect"
 	"regexp"
 	"strconv"
 	"strings"
@@ -127,6 +128,48 @@ type ChannelSetup struct {
 	line     int
 }
 
+var reBareWord = regexp.MustCompile(`^expected value but found (".*") instead$`)
+
+// keyElsewhere says where a key put in the wrong table belongs, from the tables' toml
+// tags, or nothing.
+func keyElsewhere(k toml.Key) string {
+	name := k[len(k)-1]
+	var where, tags []string
+	var walk func(t reflect.Type, at string)
+	walk = func(t reflect.Type, at string) {
+		for t.Kind() == reflect.Pointer || t.Kind() == reflect.Slice {
+			t = t.Elem()
+		}
+		if t.Kind() != reflect.Struct || t == reflect.TypeOf(Quantity{}) {
+			return
+		}
+		for i := 0; i < t.NumField(); i++ {
+			tag := strings.Split(t.Field(i).Tag.Get("toml"), ",")[0]
+			if tag == "" || tag == "-" {
+				continue
+			}
+			tags = append(tags, tag)
+			if tag == name {
+				where = append(where, "["+strings.TrimPrefix(at+"."+tag, ".")+"]")
+			}
+			walk(t.Field(i).Type, strings.TrimPrefix(at+"."+tag, "."))
+		}
+	}
+	walk(reflect.TypeOf(Setup{}), "")
+	if len(where) == 0 {
+		if near := Nearest(name, tags); near != "" {
+			return fmt.Sprintf(" (did you mean %s?)", near)
+		}
+		return " (docs/setup.md lists the keys)"
+	}
+	for i, w := range where {
+		if j := strings.LastIndex(w, "."); j > 0 {
+			where[i] = "[" + w[1:j] + "]"
+		}
+	}
+	return fmt.Sprintf(": %s is a key of %s", name, strings.Join(where, " or "))
+}
+
 var reDecodeErr = regexp.MustCompile(`line (\d+) \(last key "([^"]*)"\): (.*)`)
 
 // SetupError names the setup file, line and key.
@@ -138,6 +181,9 @@ type SetupError struct {
 }
 
 func (e *SetupError) Error() string {
+	if e.Line > 0 && e.Key == "" {
+		return fmt.Sprintf("%s:%d: %s", e.File, e.Line, e.Msg)
+	}
 	if e.Line > 0 {
 		return fmt.Sprintf("%s:%d: %s: %s", e.File, e.Line, e.Key, e.Msg)
 	}
@@ -176,7 +222,12 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	if err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
-			return nil, &SetupError{File: file, Line: pe.Position.Line, Key: pe.LastKey, Msg: pe.Message}
+			msg := pe.Message
+			if m := reBareWord.FindStringSubmatch(msg); m != nil {
+				word, key := strings.Trim(m[1], `"`), pe.LastKey[strings.LastIndex(pe.LastKey, ".")+1:]
+				msg = fmt.Sprintf("%s is not a value: text needs quotes, as in %s = \"%s\"", word, key, word)
+			}
+			return nil, &SetupError{File: file, Line: pe.Position.Line, Key: pe.LastKey, Msg: msg}
 		}
 		// decode errors read "toml: line N (last key "k"): message"
 		if m := reDecodeErr.FindStringSubmatch(err.Error()); m != nil {
@@ -188,7 +239,7 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	text := string(b)
 	if und := md.Undecoded(); len(und) > 0 {
 		k := und[0]
-		return nil, &SetupError{File: file, Line: keyLine(text, k), Key: k.String(), Msg: "unknown key"}
+		return nil, &SetupError{File: file, Line: keyLine(text, k), Key: k.String(), Msg: "unknown key" + keyElsewhere(k)}
 	}
 	s.Path, s.Text = file, text
 	// channel table lines, for later messages
@@ -226,7 +277,7 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	}{{"nominal.test_voltage", "V", s.Nominal.TestVoltage}, {"generator.charging_voltage", "V", s.Generator.ChargingVoltage}, {"read.interval", "s", s.Read.Interval}} {
 		if err := q.q.in(q.key, q.unit); err != nil {
 			k := strings.Split(q.key, ".")
-			return nil, bad(at(k...), q.key, "%v", err)
+			return nil, bad(at(k...), q.key, "%v", strings.TrimPrefix(err.Error(), q.key+": "))
 		}
 	}
 	if s.Generator.Stages < 0 {

@@ -22,6 +22,12 @@ func TestSetupErrorsNameKeyAndLine(t *testing.T) {
 		{"bad shape", "[nominal]\nshape = \"fast\"\n", []string{"s.toml:2", "nominal.shape"}},
 		{"bad forced shape", "[method]\nforce_shape = \"round\"\n", []string{"s.toml:2", "force_shape"}},
 		{"zero ratio", "[[channel]]\nindex = 1\nrole = \"divider\"\nratio = 0\n", []string{"s.toml:1", "ratio"}},
+		{"key in the wrong table", "[[channel]]\nmatch = \"d\"\nrole = \"divider\"\nchopped = true\n", []string{"s.toml:4", "chopped is a key of [nominal]"}},
+		{"coil key outside its table", "[[channel]]\nmatch = \"d\"\nrole = \"coil\"\nmutual = \"2nH\"\n", []string{"s.toml:4", "mutual is a key of [channel.coil]"}},
+		{"text without quotes", "series = \"x\"\n\n[[channel]]\nrole = divider\n", []string{"s.toml:4", `as in role = "divider"`}},
+		{"blank key", "series = \"x\"\n = 3\n", []string{"s.toml:2: unexpected"}},
+		{"unit of another quantity", "[nominal]\ntest_voltage = \"300 kA\"\n", []string{"s.toml:2: nominal.test_voltage: A is not a unit of voltage"}},
+		{"mistyped key", "[nominal]\nshap = \"1.2/50\"\n", []string{"s.toml:2", "did you mean shape?"}},
 		{"coil needs its load", "[[channel]]\nindex = 2\nrole = \"coil\"\n[channel.coil]\nmutual = \"1 nH\"\n", []string{"s.toml:1", "load_resistance"}},
 	}
 	for _, c := range cases {
@@ -65,4 +71,15 @@ func TestSetupUnits(t *testing.T) {
 	s, err := shot.ParseSetup([]byte("[nominal]\ntest_voltage = 300e3\n[generator]\ncharging_voltage = \"22 kV\"\n"), "s.toml")
 	require.NoError(t, err)
 	assert.InDelta(t, 300e3, s.Nominal.TestVoltage.V, 1e-9, "a bare number is in SI")
+}
+
+// A mistyped name gets the nearest candidate within two edits, whatever its case, and
+// nothing when no candidate is near.
+func TestNearest(t *testing.T) {
+	names := []string{"divider", "coil", "antenna", "B-dot"}
+	for _, c := range []struct{ in, want string }{
+		{"divder", "divider"}, {"DIVIDER", "divider"}, {"col", "coil"}, {"b_dot", "B-dot"}, {"probe7", ""}, {"", ""},
+	} {
+		assert.Equal(t, c.want, shot.Nearest(c.in, names), c.in)
+	}
 }
