@@ -43,26 +43,18 @@ func TestReportInBrowser(t *testing.T) {
 	require.Equal(t, exitOK, code, out+stderr)
 	report := filepath.Join(dir, "report", "report.html")
 	html := mustRead(t, report)
-	// A probe script reports what the page shows: element boxes and visibility.
-	probe := `<script>window.addEventListener('load',function(){
-function vis(el){if(!el)return false;var r=el.getBoundingClientRect();var s=getComputedStyle(el);return r.width>50&&r.height>20&&s.visibility!=='hidden'&&s.display!=='none';}
-var svg=document.querySelector('.plot svg');
-var wide=document.documentElement.scrollWidth>window.innerWidth;
-document.title='PROBE summary='+vis(document.getElementById('summary-table'))+' plot='+vis(svg)+' safety='+vis(document.getElementById('safety'))+' overflow='+wide;
-});</script>`
-	probed := filepath.Join(dir, "report", "probe.html")
-	require.NoError(t, os.WriteFile(probed, bytes.Replace(html, []byte("</body>"), []byte(probe+"</body>"), 1), 0o644))
 	ctx, cancel := context.WithTimeout(context.Background(), 90*time.Second)
 	defer cancel()
-	// at a portrait page's width and at a desktop's, nothing wider than the window
-	for _, width := range []string{"800", "1400"} {
-		args := append(chromiumArgs(filepath.Join(dir, "profile"+width)), "--window-size="+width+",1200", "--virtual-time-budget=5000", "--dump-dom", "file://"+probed)
-		dom, err := exec.CommandContext(ctx, bin, args...).Output()
-		require.NoError(t, err)
-		m := regexp.MustCompile(`<title>PROBE ([^<]*)</title>`).FindSubmatch(dom)
-		require.NotNil(t, m, "probe ran")
-		assert.Equal(t, "summary=true plot=true safety=true overflow=false", string(m[1]), "at %s px", width)
-	}
+	probeWidths(ctx, t, bin, report, "demo")
+	// long names, as lab scripts make them, and a long error: they wrap, the page does not widen
+	caps := filepath.Join(dir, "captures")
+	long := "bay2_generator-8stage_2026-11-30_lightning-full-wave_positive_withstand-series-object-T4711_shot0001.csv"
+	require.NoError(t, os.Rename(filepath.Join(caps, "shot01.csv"), filepath.Join(caps, long)))
+	require.NoError(t, os.WriteFile(filepath.Join(caps, "another_extremely_long_capture_file_name_from_a_lab_script_20261130T101112Z.csv"),
+		[]byte("t,U\n0,1\n1e-9,a_very_long_cell_value_without_any_spaces_at_all_that_a_broken_export_could_leave_in_a_row\n"), 0o644))
+	code, out, stderr = runCmd("analyze", "--quiet", "--out", filepath.Join(dir, "long"), caps)
+	require.Equal(t, exitFileErrors, code, out+stderr)
+	probeWidths(ctx, t, bin, filepath.Join(dir, "long", "report.html"), "long names")
 
 	shot := filepath.Join(dir, "report.png")
 	args := append(chromiumArgs(filepath.Join(dir, "profile2")), "--window-size=1280,1600", "--screenshot="+shot, "file://"+report)
@@ -136,4 +128,29 @@ func TestReportPrints(t *testing.T) {
 		}
 	}
 	assert.Equal(t, 17, blocks, "every row's block is printed")
+}
+
+// probeWidths opens the report at a portrait page's width and at a desktop's with a
+// probe script that reports what the page shows (element boxes and visibility), and
+// asserts the summary, a plot and the safety note are visible and nothing is wider than
+// the window.
+func probeWidths(ctx context.Context, t *testing.T, bin, report, what string) {
+	probe := `<script>window.addEventListener('load',function(){
+function vis(el){if(!el)return false;var r=el.getBoundingClientRect();var s=getComputedStyle(el);return r.width>50&&r.height>20&&s.visibility!=='hidden'&&s.display!=='none';}
+var svg=document.querySelector('.plot svg');
+var wide=document.documentElement.scrollWidth>window.innerWidth;
+document.title='PROBE summary='+vis(document.getElementById('summary-table'))+' plot='+vis(svg)+' safety='+vis(document.getElementById('safety'))+' overflow='+wide;
+});</script>`
+	dir := filepath.Dir(report)
+	probed := filepath.Join(dir, "probe.html")
+	require.NoError(t, os.WriteFile(probed, bytes.Replace(mustRead(t, report), []byte("</body>"), []byte(probe+"</body>"), 1), 0o644))
+	defer os.Remove(probed)
+	for _, width := range []string{"800", "1400"} {
+		args := append(chromiumArgs(t.TempDir()), "--window-size="+width+",1200", "--virtual-time-budget=5000", "--dump-dom", "file://"+probed)
+		dom, err := exec.CommandContext(ctx, bin, args...).Output()
+		require.NoError(t, err)
+		m := regexp.MustCompile(`<title>PROBE ([^<]*)</title>`).FindSubmatch(dom)
+		require.NotNil(t, m, "probe ran")
+		assert.Equal(t, "summary=true plot=true safety=true overflow=false", string(m[1]), "%s at %s px", what, width)
+	}
 }

@@ -52,8 +52,8 @@ h1{font-size:1.45em;margin:.2em 0}h2{font-size:1.15em;margin-top:1.8em;border-bo
 table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:.15em .4em;text-align:right;font-size:.88em;vertical-align:top}
 th{background:#f2f2f2;font-weight:600}td.l,th.l{text-align:left}
 .num{white-space:nowrap;font-variant-numeric:tabular-nums}
-table.shots{width:100%}table.shots td.shot{overflow-wrap:break-word}table.shots td.shape{white-space:nowrap}
-table.shots tr.first td{border-top:2px solid #999}table.shots tr.why td{text-align:left;border-top:none;font-size:.82em;color:#444;overflow-wrap:anywhere}
+table.shots{width:100%}table.shots td.l{overflow-wrap:anywhere}table.shots td.shot{min-width:7em}table.shots td.shape,table.shots td.v{white-space:nowrap;overflow-wrap:normal}
+table.shots tbody.first tr:first-child td{border-top:2px solid #999}.shot h3,#stats-table td.l{overflow-wrap:anywhere}table.shots tr.why td{text-align:left;border-top:none;font-size:.82em;color:#444;overflow-wrap:anywhere}
 .pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}
 dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:.6em 0}dl.facts dt{font-weight:600}dl.facts dd{margin:0;overflow-wrap:anywhere}
 .synthetic{background:#fde8e8;border:2px solid #a00000;color:#a00000;font-weight:bold;padding:.5em .8em;margin:.8em 0}
@@ -68,7 +68,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
  @top-left{content:{{.TitleCSS}};font:8pt "Liberation Sans",Arial,sans-serif;color:#555}
  @bottom-right{content:"page " counter(page) " of " counter(pages);font:8pt "Liberation Sans",Arial,sans-serif;color:#555}}
 @media print{body{max-width:none;margin:0;padding:0;font-size:10pt}.shot{break-inside:avoid}h2,h3{break-after:avoid}
- tr{break-inside:avoid}a{color:inherit;text-decoration:none}.safety{break-inside:avoid}}
+ tr,table.shots tbody{break-inside:avoid}a{color:inherit;text-decoration:none}.safety{break-inside:avoid}}
 </style></head><body>
 <header>
 <h1>{{.Title}}</h1>
@@ -102,10 +102,10 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Charts}}<h2 id="series-charts">The series at a glance</h2>
 <div class="plot charts">{{.Charts}}</div>{{end}}
 <h2>Shots, failing and unreadable first</h2>
-<table class="shots" id="shots-table"><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th><th class="l">pol.</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr>
-{{range .Rows}}<tr{{if .First}} class="first"{{end}}><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td><td class="l">{{.Pol}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
+<table class="shots" id="shots-table"><thead><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th><th class="l">pol.</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr></thead>
+{{range $i, $r := .Rows}}{{if .First}}{{if $i}}</tbody>{{end}}<tbody class="first">{{end}}<tr><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td><td class="l">{{.Pol}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l v {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
 {{if .Why}}<tr class="why"><td></td><td colspan="{{$.Span}}" class="{{.R.Verdict}}-why">{{.Why}}</td></tr>{{end}}
-{{end}}</table>
+{{end}}{{if .Rows}}</tbody>{{end}}</table>
 {{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}}{{if ne .Channel "-"}} · {{.Channel}}{{end}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
 {{if .Kind}}<p>{{.Kind}}</p>{{end}}
 {{if .Why}}<p class="{{.R.Verdict}} msg">{{.Why}}</p>{{end}}

@@ -103,10 +103,24 @@ func save(w io.Writer, format PlotFormat, ps ...*plot.Plot) error {
 	tiles := draw.Tiles{Rows: 1, Cols: len(ps), PadX: vg.Millimeter * 6}
 	canv := plot.Align([][]*plot.Plot{ps}, tiles, dc)
 	for i, p := range ps {
+		legendAbove(p, canv[0][i])
 		p.Draw(canv[0][i])
 	}
 	_, err := c.WriteTo(w)
 	return err
+}
+
+// legendAbove raises the top of a panel's y range until its legend, drawn in the top
+// corner, stands above the data instead of over the curves.
+func legendAbove(p *plot.Plot, c draw.Canvas) {
+	dc := p.DataCanvas(c)
+	r := p.Legend.Rectangle(dc)
+	h, area := float64(r.Max.Y-r.Min.Y), float64(dc.Max.Y-dc.Min.Y)
+	if h <= 0 || area <= 0 || p.Y.Max <= p.Y.Min {
+		return
+	}
+	frac := math.Min(0.6, (h+float64(vg.Points(4)))/area)
+	p.Y.Max += (p.Y.Max - p.Y.Min) * frac / (1 - frac)
 }
 
 // sans is the plots' face, the report page's family (the report's stylesheet falls back

@@ -84,6 +84,17 @@ func TestHTML(t *testing.T) {
 	assert.Contains(t, sec, "day2/a.csv")
 	assert.Contains(t, html[i3:i2], "could not be read")
 	assert.Contains(t, html, "front_time 1.9")
+	// in the shots table each shot's rows, its reasons included, are one group, which
+	// print keeps on one page: three shots, three groups, the reason inside its own
+	table := html[strings.Index(html, `id="shots-table"`):]
+	table = table[:strings.Index(table, "</table>")]
+	groups := strings.Split(table, `<tbody class="first">`)[1:]
+	require.Len(t, groups, 3)
+	assert.Contains(t, groups[1], "day2/a.csv")
+	assert.Contains(t, groups[1], "front_time 1.9", "the reason in its shot's group")
+	for _, g := range groups {
+		assert.Equal(t, 1, strings.Count(g, "</tbody>"), "each group closed once")
+	}
 	// a tolerance other than the standard's says so
 	cfg := shot.NewConfig()
 	cfg.Tolerances.Front_pct = 300

@@ -121,6 +121,7 @@ func SeriesCharts(w io.Writer, rows []shot.Row, traces []shot.Trace, cfg *shot.C
 	canv := plot.Align([][]*plot.Plot{{ut, front}, {tail, over}}, tiles, draw.New(c))
 	for i, row := range [][]*plot.Plot{{ut, front}, {tail, over}} {
 		for j, p := range row {
+			legendAbove(p, canv[i][j])
 			p.Draw(canv[i][j])
 		}
 	}
