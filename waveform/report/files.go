@@ -40,6 +40,9 @@ func DrawPlots(d *folder.Folder, s *shot.Shot, format PlotFormat) {
 // not at all; the page's plots are read back from the folder as the report streams.
 func WriteAll(d *folder.Folder, p Page) error {
 	p.Plot = d.Read
+	if p.Config != nil && !p.Config.Record.Empty() {
+		p.Summary.Record = &p.Config.Record
+	}
 	err := d.Write("results.csv", func(f io.Writer) error { return shot.WriteCSV(f, p.Rows) })
 	if err == nil {
 		err = d.Write("results.jsonl", func(f io.Writer) error { return shot.WriteJSONL(f, p.Rows) })

@@ -75,6 +75,12 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Synthetic}}<p class="synthetic" id="synthetic">SYNTHETIC DATA: {{.Synthetic}} made by hvshot's synthesiser or demo, not measured. This is a rehearsal, not a test record.</p>{{end}}
 <dl class="facts" id="facts">
 <dt>Outcome</dt><dd class="{{.OutcomeClass}}">{{.Outcome}}</dd>
+{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
+<dt>Laboratory</dt><dd>{{or .Laboratory "not stated"}}</dd>
+<dt>Operator</dt><dd>{{or .Operator "not stated"}}</dd>
+<dt>Measuring system</dt><dd>{{$.Measuring}}</dd>
+{{else}}<dt>Test record</dt><dd>not described: the test object, laboratory, operator and measuring system go in the setup file (docs/setup.md)</dd>
+{{end}}<dt>Shots fired</dt><dd>{{.Fired}}</dd>
 <dt>Nominal</dt><dd>{{.Nominal}}</dd>
 <dt>Tolerances</dt><dd>{{.Tolerances}}</dd>
 <dt>Overshoot</dt><dd>relative to {{.Over}}</dd>
@@ -288,6 +294,31 @@ func HTML(w io.Writer, p Page) error {
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path
+	}
+	if r := cfg.Record; !r.Empty() {
+		ms := []string{r.MeasuringSystem}
+		if r.MeasuringSystem == "" {
+			ms[0] = "not named"
+		}
+		if r.Uncertainty_pct > 0 {
+			ms = append(ms, "expanded uncertainty "+f(r.Uncertainty_pct)+" %")
+		}
+		if r.Calibrated != "" {
+			ms = append(ms, "calibrated "+r.Calibrated)
+		}
+		data["Record"], data["Measuring"] = r, strings.Join(ms, ", ")
+	}
+	data["Fired"] = "not known (no capture states it)"
+	if a, b := s.FirstFired, s.LastFired; a != nil {
+		data["Fired"] = a.Format("2006-01-02 15:04")
+		switch {
+		case b.Sub(*a) < time.Minute:
+		case a.Format("2006-01-02") == b.Format("2006-01-02"):
+			data["Fired"] = data["Fired"].(string) + " to " + b.Format("15:04")
+		default:
+			data["Fired"] = data["Fired"].(string) + " to " + b.Format("2006-01-02 15:04")
+		}
+		data["Fired"] = data["Fired"].(string) + " UTC (as the captures state it, else as their files were saved)"
 	}
 	return reportTmpl.Execute(w, data)
 }

@@ -95,12 +95,19 @@ func TestHTML(t *testing.T) {
 	for _, g := range groups {
 		assert.Equal(t, 1, strings.Count(g, "</tbody>"), "each group closed once")
 	}
-	// a tolerance other than the standard's says so
+	// without a described test record the header says where it goes
+	assert.Contains(t, html, "<dt>Test record</dt><dd>not described")
+	// a tolerance other than the standard's says so; a described record heads the page
 	cfg := shot.NewConfig()
 	cfg.Tolerances.Front_pct = 300
+	cfg.Record = shot.TestRecord{Object: "post insulator (invented)", ObjectID: "PI-1", Operator: "A. Example", Uncertainty_pct: 1.5, Calibrated: "2026-03-14"}
 	b.Reset()
 	require.NoError(t, report.HTML(&b, report.Page{Summary: series.Summary(), Rows: rows, Config: cfg}))
 	assert.Contains(t, b.String(), "T1 ±300 % (IEC 60060-1:2010: 30 %)")
+	for _, want := range []string{"<dt>Test object</dt><dd>post insulator (invented), PI-1</dd>", "<dt>Laboratory</dt><dd>not stated</dd>",
+		"<dt>Operator</dt><dd>A. Example</dd>", "not named, expanded uncertainty 1.5 %, calibrated 2026-03-14"} {
+		assert.Contains(t, b.String(), want)
+	}
 }
 
 func TestTableAndSummary(t *testing.T) {

@@ -34,6 +34,9 @@ type Config struct {
 	Ratios map[string]float64
 
 	Setup *Setup // the setup file this came from, if any
+
+	// Record names the test object, laboratory, operator and measuring system.
+	Record TestRecord
 }
 
 // NewConfig returns the defaults: IEC 60060-1:2010's tolerances, the settings of
@@ -70,6 +73,7 @@ func FromSetup(s *Setup) *Config {
 	c.Stages = s.Generator.Stages
 	c.Charging_v = math.Abs(s.Generator.ChargingVoltage.V)
 	c.Channels = s.Channels
+	c.Record, _ = s.record(func(...string) int { return 0 }) // checked by ParseSetup
 	return c
 }
 

@@ -3,6 +3,7 @@ package shot
 import (
 	"math"
 	"slices"
+	"time"
 
 	"github.com/hvshot/hvshot/waveform/impulse"
 )
@@ -39,6 +40,11 @@ type Summary struct {
 	Interrupted bool   `json:"interrupted,omitempty"`
 	// Command is how the run was started, for the record (set by the caller).
 	Command []string `json:"command,omitempty"`
+	// FirstFired and LastFired bound the shots' firing times (Row.Fired), when known.
+	FirstFired *time.Time `json:"first_fired,omitempty"`
+	LastFired  *time.Time `json:"last_fired,omitempty"`
+	// Record is the test record the setup describes (set by the caller).
+	Record *TestRecord `json:"record,omitempty"`
 }
 
 // Series accumulates shots into a Summary without keeping them: its memory does not
@@ -50,6 +56,7 @@ type Series struct {
 	measured           int
 	incomplete         int
 	acc                map[statKey]*welford
+	first, last        time.Time
 }
 
 // statKey is one statistic: a column over one group of shots. Lightning and switching
@@ -111,6 +118,14 @@ func (s *Series) add(sh *Shot) {
 	for i := range sh.Rows {
 		r := &sh.Rows[i]
 		s.rows++
+		if f := r.Fired; !f.IsZero() {
+			if s.first.IsZero() || f.Before(s.first) {
+				s.first = f
+			}
+			if f.After(s.last) {
+				s.last = f
+			}
+		}
 		switch r.Verdict {
 		case Pass:
 			s.pass++
@@ -139,6 +154,10 @@ func (s *Series) add(sh *Shot) {
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
 	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Stats: []Stat{}}
+	if !s.first.IsZero() {
+		first, last := s.first.UTC(), s.last.UTC()
+		out.FirstFired, out.LastFired = &first, &last
+	}
 	// in the per-shot tables' order, then the rest in the column table's
 	cols := slices.Clone(Columns)
 	rank := func(c *Column) int {

@@ -66,15 +66,20 @@ func (q Quantity) in(key, unit string) error {
 
 // Setup is a test series' setup file.
 type Setup struct {
-	Series    string         `toml:"series"`
-	Nominal   NominalSetup   `toml:"nominal"`
-	Tolerance ToleranceSetup `toml:"tolerance"`
-	Method    MethodSetup    `toml:"method"`
-	Generator GeneratorSetup `toml:"generator"`
-	Read      ReadSetup      `toml:"read"`
-	Channels  []ChannelSetup `toml:"channel"`
-	Path      string         `toml:"-"` // where it was read from, for the report
-	Text      string         `toml:"-"` // as written, for the report
+	Series     string         `toml:"series"`
+	TestObject string         `toml:"test_object"`
+	ObjectID   string         `toml:"object_id"`
+	Laboratory string         `toml:"laboratory"`
+	Operator   string         `toml:"operator"`
+	Measuring  MeasuringSetup `toml:"measuring_system"`
+	Nominal    NominalSetup   `toml:"nominal"`
+	Tolerance  ToleranceSetup `toml:"tolerance"`
+	Method     MethodSetup    `toml:"method"`
+	Generator  GeneratorSetup `toml:"generator"`
+	Read       ReadSetup      `toml:"read"`
+	Channels   []ChannelSetup `toml:"channel"`
+	Path       string         `toml:"-"` // where it was read from, for the report
+	Text       string         `toml:"-"` // as written, for the report
 }
 
 // NominalSetup is the [nominal] table.
@@ -279,6 +284,9 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 			k := strings.Split(q.key, ".")
 			return nil, bad(at(k...), q.key, "%v", strings.TrimPrefix(err.Error(), q.key+": "))
 		}
+	}
+	if _, err := s.record(at); err != nil {
+		return nil, err
 	}
 	if s.Generator.Stages < 0 {
 		return nil, bad(at("generator", "stages"), "generator.stages", "must be positive")

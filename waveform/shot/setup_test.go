@@ -28,6 +28,8 @@ func TestSetupErrorsNameKeyAndLine(t *testing.T) {
 		{"blank key", "series = \"x\"\n = 3\n", []string{"s.toml:2: unexpected"}},
 		{"unit of another quantity", "[nominal]\ntest_voltage = \"300 kA\"\n", []string{"s.toml:2: nominal.test_voltage: A is not a unit of voltage"}},
 		{"mistyped key", "[nominal]\nshap = \"1.2/50\"\n", []string{"s.toml:2", "did you mean shape?"}},
+		{"implausible uncertainty", "[measuring_system]\nname = \"DV-3\"\nexpanded_uncertainty_pct = 150\n", []string{"s.toml:3", "measuring_system.expanded_uncertainty_pct", "below 20"}},
+		{"calibration not a date", "[measuring_system]\ncalibrated = \"March 2026\"\n", []string{"s.toml:2", "a date written 2026-03-14"}},
 		{"coil needs its load", "[[channel]]\nindex = 2\nrole = \"coil\"\n[channel.coil]\nmutual = \"1 nH\"\n", []string{"s.toml:1", "load_resistance"}},
 	}
 	for _, c := range cases {
@@ -48,6 +50,9 @@ func TestDemoSetupParses(t *testing.T) {
 	require.Len(t, s.Channels, 3)
 	assert.Equal(t, []shot.Role{shot.Divider, shot.Coil, shot.Antenna}, []shot.Role{s.Channels[0].Role, s.Channels[1].Role, s.Channels[2].Role})
 	c := shot.FromSetup(s)
+	assert.Equal(t, "PI-7-0042", c.Record.ObjectID)
+	assert.Equal(t, 1.5, c.Record.Uncertainty_pct)
+	assert.Equal(t, "2026-03-14", c.Record.Calibrated)
 	assert.InDelta(t, 150e3, c.Nominal.Peak_v, 1e-9)
 	assert.Equal(t, 8, c.Stages)
 	assert.InDelta(t, 22e3, c.Charging_v, 1e-9)

@@ -10,6 +10,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
@@ -191,8 +192,10 @@ func TestSeriesStatistics(t *testing.T) {
 	cfg := shot.NewConfig()
 	series := shot.NewSeries("s")
 	var uts []float64
+	fired := []time.Time{time.Date(2026, 11, 30, 10, 5, 0, 0, time.UTC), time.Date(2026, 11, 30, 9, 58, 0, 0, time.UTC), {}, time.Date(2026, 11, 30, 11, 15, 0, 0, time.UTC)}
 	for i := 1; i <= 4; i++ {
 		rec := record(t, 1.2, uint64(10+i))
+		rec.Trigger = fired[i-1] // in no order, one unknown
 		synth.Scale(&rec.Channels[0], float64(i))
 		sh := shot.Evaluate(rec, "a.csv", cfg)
 		v, _ := sh.Rows[0].Value(shot.ColTestVoltage)
@@ -202,6 +205,9 @@ func TestSeriesStatistics(t *testing.T) {
 	sum := series.Summary()
 	assert.Equal(t, 4, sum.Files)
 	assert.Equal(t, 4, sum.Rows, "a divider row each; the undescribed coil channels left out")
+	require.NotNil(t, sum.FirstFired)
+	assert.Equal(t, fired[1], *sum.FirstFired, "the earliest firing time, the unknown one left out")
+	assert.Equal(t, fired[3], *sum.LastFired)
 	var st shot.Stat
 	for _, s := range sum.Stats {
 		if s.Key == "test_voltage_v" {
