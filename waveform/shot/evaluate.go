@@ -239,20 +239,31 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		src.efficiency = r.TestVoltage_v / (float64(cfg.Stages) * cfg.Charging_v)
 	}
 	row.Warnings = appendWarnings(row.Warnings, r.Warnings)
-	row.Warnings = append(row.Warnings, impulsePlausible(r)...)
-	nom := cfg.Nominal.For(r.Shape)
-	// scale slips, ours: a hundredfold off the nominal, or under a kilovolt with no
-	// nominal to compare (no impulse test runs that low; a divider's low side does)
-	switch {
-	case nom.Peak_v > 0 && r.TestVoltage_v < 0.01*nom.Peak_v:
-		row.Warnings = append(row.Warnings, Warning{"ratio-missing", fmt.Sprintf("the test voltage %.4g V is below 1 %% of the nominal %.4g kV: a low-side capture? give the divider ratio (--ratio, or ratio in the setup file)", r.TestVoltage_v, nom.Peak_v/1e3)})
-	case nom.Peak_v > 0 && r.TestVoltage_v > 100*nom.Peak_v:
-		row.Warnings = append(row.Warnings, Warning{"nominal-implausible", fmt.Sprintf("the nominal test voltage %.4g V is below 1 %% of the measured %.4g kV: was it meant with a unit (\"300 kV\")?", nom.Peak_v, r.TestVoltage_v/1e3)})
-	case nom.Peak_v == 0 && r.TestVoltage_v < 1e3:
-		row.Warnings = append(row.Warnings, Warning{"ratio-missing", fmt.Sprintf("the test voltage is only %.4g V: if this is a divider's low side, give its ratio (--ratio, or ratio in the setup file)", r.TestVoltage_v)})
+	timeSlip := slices.ContainsFunc(row.Warnings, func(w Warning) bool { return w.Code == TimeImplausible })
+	if !timeSlip {
+		pw := impulsePlausible(r)
+		row.Warnings, timeSlip = append(row.Warnings, pw...), len(pw) > 0
 	}
-	// Judged on what could be measured; what could not leaves compliance unshown.
+	nom := cfg.Nominal.For(r.Shape)
+	code, text, scaleOK := scaleSlip(r.TestVoltage_v, nom.Peak_v)
+	if code != "" {
+		row.Warnings = append(row.Warnings, Warning{code, text})
+	}
+	// Judged on what could be measured; what could not, or what a slip of unit or
+	// scale makes untrustworthy, leaves compliance unshown.
 	unmeasured := impulse.Unmeasured(r, nom)
+	slipped := map[string]string{}
+	if timeSlip {
+		for _, p := range []string{"front_time", "time_to_half", "time_to_peak"} {
+			slipped[p] = "the time unit looks misread"
+		}
+	}
+	if !scaleOK {
+		slipped["test_voltage"] = "the voltage scale looks wrong"
+	}
+	for p, why := range slipped {
+		unmeasured[p] = why
+	}
 	for _, f := range impulse.Judge(r, nom, cfg.Tolerances) {
 		if _, out := unmeasured[f.Parameter]; !out {
 			row.Failures = append(row.Failures, f)
@@ -261,7 +272,11 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	row.Unmeasured = slices.Sorted(maps.Keys(unmeasured))
 	// what the statistics may not trust, whatever the nominal judges (a clipped Ut
 	// without a nominal test voltage is still a clipped Ut)
-	row.untrusted = slices.Sorted(maps.Keys(impulse.Unmeasured(r, impulse.Nominal{Peak_v: 1}.For(r.Shape))))
+	untrusted := impulse.Unmeasured(r, impulse.Nominal{Peak_v: 1}.For(r.Shape))
+	for p := range slipped {
+		untrusted[p] = ""
+	}
+	row.untrusted = slices.Sorted(maps.Keys(untrusted))
 	row.Verdict = Pass
 	switch {
 	case len(row.Failures) > 0:

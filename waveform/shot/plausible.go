@@ -3,6 +3,7 @@ package shot
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/impulse"
@@ -34,27 +35,55 @@ func slip(ratio float64) string {
 // recordPlausible warns when the record is far too long to hold an impulse.
 func recordPlausible(rec *waveform.Record) []Warning {
 	if d := rec.Duration_s(); d > maxRecord_s {
-		return []Warning{{"time-implausible", fmt.Sprintf("the record spans %.3g s where impulse records span microseconds to milliseconds: is the time unit misread%s? Give it in the header (t [us]) or the interval with --interval", d, slip(d/100e-6))}}
+		return []Warning{{TimeImplausible, fmt.Sprintf("the record spans %.3g s where impulse records span microseconds to milliseconds: is the time unit misread%s? Give it in the header (t [us]) or the interval with --interval", d, slip(d/100e-6))}}
 	}
 	return nil
 }
 
-// impulsePlausible warns when the front or the time to half-value lies orders of
+// impulsePlausible warns, once, when the front or the time to half-value lies orders of
 // magnitude outside every standard family, naming the likely unit slip.
 func impulsePlausible(r *impulse.Result) []Warning {
-	var out []Warning
+	var out []string
 	check := func(name string, v, lo, hi, typical float64) {
 		if math.IsNaN(v) || (v >= lo/implausibleFactor && v <= hi*implausibleFactor) {
 			return
 		}
-		out = append(out, Warning{"time-implausible", fmt.Sprintf("%s %.3g s is orders of magnitude outside the standard impulses' (%.3g to %.3g s)%s", name, v, lo, hi, slip(v/typical))})
+		out = append(out, fmt.Sprintf("%s %.3g s is orders of magnitude outside the standard impulses' (%.3g to %.3g s)%s", name, v, lo, hi, slip(v/typical)))
 	}
 	lf, sf := impulse.StandardLightning, impulse.StandardSwitching
-	front := r.FrontTime_s
+	front, name := r.FrontTime_s, "the front time"
 	if r.Shape == impulse.Switching {
-		front = r.TimeToPeak_s
+		front, name = r.TimeToPeak_s, "the time to peak"
 	}
-	check("the front", front, lf.Front_s, sf.Front_s, map[bool]float64{true: sf.Front_s, false: lf.Front_s}[r.Shape == impulse.Switching])
+	check(name, front, lf.Front_s, sf.Front_s, map[bool]float64{true: sf.Front_s, false: lf.Front_s}[r.Shape == impulse.Switching])
 	check("the time to half-value", r.TimeToHalf_s, lf.Tail_s, sf.Tail_s, map[bool]float64{true: sf.Tail_s, false: lf.Tail_s}[r.Shape == impulse.Switching])
-	return out
+	if len(out) == 0 {
+		return nil
+	}
+	return []Warning{{TimeImplausible, strings.Join(out, "; ")}}
+}
+
+// TimeImplausible is the warning that the record's times look misread: its time
+// parameters are then not trusted, for the verdict or the statistics.
+const TimeImplausible = "time-implausible"
+
+// maxTestVoltage_v is beyond the test voltage of any impulse generator (ours: the
+// largest build to some 10 MV, from memory); a larger Ut is a scale slip.
+const maxTestVoltage_v = 20e6
+
+// scaleSlip says what a test voltage far from its nominal, or beyond any generator,
+// most likely is; "" when the scale looks right. A low one is only a hint (a small
+// generator or a divider's low side without its ratio); a high one leaves Ut untrusted.
+func scaleSlip(ut_v, nominal_v float64) (code, text string, trusted bool) {
+	switch {
+	case nominal_v > 0 && ut_v < 0.01*nominal_v:
+		return "ratio-missing", fmt.Sprintf("the test voltage %.4g V is below 1 %% of the nominal %.4g kV: a low-side capture? give the divider ratio (--ratio, or ratio in the setup file)", ut_v, nominal_v/1e3), true
+	case nominal_v > 0 && ut_v > 100*nominal_v:
+		return "scale-implausible", fmt.Sprintf("the test voltage %.4g kV is %.3g times the nominal %.4g kV: a divider ratio applied twice, values in volts under a kV header, or a nominal written without its unit?", ut_v/1e3, ut_v/nominal_v, nominal_v/1e3), false
+	case ut_v > maxTestVoltage_v:
+		return "scale-implausible", fmt.Sprintf("a test voltage of %.4g MV is beyond any impulse generator: a divider ratio applied twice, or values in volts under a kV header?", ut_v/1e6), false
+	case nominal_v == 0 && ut_v < 1e3:
+		return "ratio-missing", fmt.Sprintf("the test voltage is only %.4g V: if this is a divider's low side, give its ratio (--ratio, or ratio in the setup file)", ut_v), true
+	}
+	return "", "", true
 }

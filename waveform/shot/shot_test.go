@@ -254,8 +254,8 @@ func TestFailedShotHasNoNumbers(t *testing.T) {
 }
 
 // A time base a million times too long (microseconds read as seconds) is never a
-// silent pass: the record and the times get warnings naming the likely slip, and the
-// impulse fails against the standard shape.
+// silent pass: one warning names the likely slip, the times are not trusted (the row is
+// incomplete, not judged on them) and they stay out of the statistics.
 func TestImplausibleTimeBaseWarns(t *testing.T) {
 	rec := record(t, 1.2, 5)
 	rec.Interval_s *= 1e6
@@ -268,9 +268,15 @@ func TestImplausibleTimeBaseWarns(t *testing.T) {
 			texts = append(texts, w.Text)
 		}
 	}
-	require.NotEmpty(t, texts)
-	assert.Contains(t, strings.Join(texts, " "), "microseconds read as seconds")
-	assert.NotEqual(t, shot.Pass, r.Verdict)
+	require.Len(t, texts, 1, "one warning")
+	assert.Contains(t, texts[0], "microseconds read as seconds")
+	assert.Equal(t, shot.Incomplete, r.Verdict)
+	assert.Contains(t, r.Unmeasured, "time_to_half")
+	series := shot.NewSeries("")
+	series.Add(s)
+	for _, st := range series.Summary().Stats {
+		assert.NotContains(t, []string{"front_time_s", "time_to_half_s", "time_to_peak_s"}, st.Key, "a misread time in the statistics")
+	}
 	// an ordinary record has no such warning
 	r = shot.Evaluate(record(t, 1.2, 5), "a.csv", shot.NewConfig()).Rows[0]
 	for _, w := range r.Warnings {
@@ -380,8 +386,10 @@ func TestStatisticsPerFamilyAndPolarity(t *testing.T) {
 	assert.Equal(t, map[string]int{"lightning, positive": 1, "lightning, negative": 1, "switching, positive": 1}, groups)
 }
 
-// Scale slips get a hint: a nominal a hundred times below the measurement (volts written
-// where kilovolts were meant), and with no nominal, a test voltage under a kilovolt.
+// Scale slips get a hint: a measurement a hundred times above the nominal (a ratio applied
+// twice, volts under a kV header, a nominal without its unit) or beyond any generator
+// leaves Ut untrusted, never a pass; with no nominal, a test voltage under a kilovolt is
+// only a hint.
 func TestScaleSlipHints(t *testing.T) {
 	codes := func(r shot.Row) string {
 		var c []string
@@ -392,9 +400,18 @@ func TestScaleSlipHints(t *testing.T) {
 	}
 	cfg := shot.NewConfig()
 	cfg.Nominal.Peak_v = 300 // "300" taken as volts
-	assert.Contains(t, codes(shot.Evaluate(record(t, 1.2, 9), "a.csv", cfg).Rows[0]), "nominal-implausible")
+	row := shot.Evaluate(record(t, 1.2, 9), "a.csv", cfg).Rows[0]
+	assert.Contains(t, codes(row), "scale-implausible")
+	assert.Equal(t, shot.Incomplete, row.Verdict)
+	assert.Contains(t, row.Unmeasured, "test_voltage")
+	big := record(t, 1.2, 9)
+	synth.Scale(&big.Channels[0], 1000) // 300 MV: a ratio applied twice
+	row = shot.Evaluate(big, "a.csv", shot.NewConfig()).Rows[0]
+	assert.Contains(t, codes(row), "scale-implausible")
+	assert.Equal(t, shot.Incomplete, row.Verdict, "no nominal voltage, still no pass on a slipped scale")
 	rec := record(t, 1.2, 9)
 	synth.Scale(&rec.Channels[0], 1.0/1000)
 	assert.Contains(t, codes(shot.Evaluate(rec, "a.csv", shot.NewConfig()).Rows[0]), "ratio-missing")
 	assert.NotContains(t, codes(shot.Evaluate(record(t, 1.2, 9), "a.csv", shot.NewConfig()).Rows[0]), "ratio-missing")
+	assert.Equal(t, shot.Pass, shot.Evaluate(record(t, 1.2, 9), "a.csv", shot.NewConfig()).Rows[0].Verdict, "a right scale passes")
 }

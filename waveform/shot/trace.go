@@ -2,6 +2,7 @@ package shot
 
 import (
 	"math"
+	"slices"
 	"time"
 )
 
@@ -20,10 +21,12 @@ type Trace struct {
 const traceColumns = 300
 
 // trace makes the row's trace, from a little before O1 to twice T2 past it (or the
-// record's end, or the chop).
+// record's end, or the chop). A record whose time unit looks misread has none: drawn on
+// the shared axis it would crush every other shot against its edge.
 func trace(row *Row, c *Curves) *Trace {
 	r := c.Impulse
-	if r == nil || math.IsNaN(r.Origin_s) || !(r.TestVoltage_v > 0) {
+	slipped := slices.ContainsFunc(row.Warnings, func(w Warning) bool { return w.Code == TimeImplausible })
+	if r == nil || math.IsNaN(r.Origin_s) || !(r.TestVoltage_v > 0) || slipped {
 		return nil
 	}
 	span := 2 * r.TimeToHalf_s
