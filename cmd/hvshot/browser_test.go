@@ -109,7 +109,7 @@ func TestReportPrints(t *testing.T) {
 	require.NoError(t, err)
 	pages := strings.Split(string(text), "\f")
 	require.Greater(t, len(pages), 3)
-	for _, want := range []string{"SYNTHETIC DATA", "Outcome", "Test object", "PI-7-0042", "Laboratory", "Operator", "Measuring system", "calibrated 2026-03-14", "Shots fired", "Nominal", "Tolerances", "1.2/50 µs", "page 1 of"} {
+	for _, want := range []string{"SYNTHETIC DATA", "Outcome", "Test object", "PI-7-0042", "Laboratory", "Operator", "Measuring system", "calibrated 2026-03-14", "Shots fired", "Atmosphere", "Kt 0.99", "Nominal", "Tolerances", "1.2/50 µs", "page 1 of"} {
 		assert.Contains(t, pages[0], want, "page 1")
 	}
 	heading := regexp.MustCompile(`(\S+?)(?: · (\S+))?: (PASS|FAIL|ERROR|MEASURED|INCOMPLETE)`)

@@ -90,10 +90,10 @@ func DefaultSettings() Settings {
 // of relative and absolute humidity. A humidity of zero means not given: no hygrometer
 // in a laboratory reads exactly zero, and it lets a literal name only the one it has.
 type Conditions struct {
-	Pressure_pa          float64
-	Temperature_c        float64
-	RelHumidity_pct      float64
-	AbsHumidity_g_per_m3 float64
+	Pressure_pa          float64 `json:"pressure_pa"`
+	Temperature_c        float64 `json:"temperature_c"`
+	RelHumidity_pct      float64 `json:"relative_humidity_pct,omitempty"`
+	AbsHumidity_g_per_m3 float64 `json:"absolute_humidity_g_per_m3,omitempty"`
 }
 
 // FieldError is a reading or argument that cannot be corrected with: Field is its Go
@@ -175,20 +175,21 @@ type Warning struct {
 // Correction is the atmospheric correction for one set of conditions and one discharge
 // voltage and path, with every factor a report shows.
 type Correction struct {
-	Conditions Conditions
-	Ub_v       float64 // the U_B g was computed with, a magnitude
-	Path_m     float64 // the minimum discharge path L
+	Conditions Conditions `json:"conditions"`
+	Ub_v       float64    `json:"ub_v"`   // the U_B g was computed with, a magnitude
+	Path_m     float64    `json:"path_m"` // the minimum discharge path L
 
-	Delta           float64 // relative air density
-	H_g_per_m3      float64 // absolute humidity, given or from the relative humidity
-	RelHumidity_pct float64 // relative humidity, given or from the absolute humidity
-	K               float64 // k = 1 + c (h/delta - 11)
-	G               float64 // g = U_B / (500 kV/m L delta k)
-	M, W            float64 // the exponents of k1 and k2
-	K1              float64 // air density correction factor delta^m
-	K2              float64 // humidity correction factor k^w
-	Kt              float64 // atmospheric correction factor k1 k2
-	Warnings        []Warning
+	Delta           float64   `json:"delta"`                 // relative air density
+	H_g_per_m3      float64   `json:"h_g_per_m3"`            // absolute humidity, given or from the relative humidity
+	RelHumidity_pct float64   `json:"relative_humidity_pct"` // relative humidity, given or from the absolute humidity
+	K               float64   `json:"k"`                     // k = 1 + c (h/delta - 11)
+	G               float64   `json:"g"`                     // g = U_B / (500 kV/m L delta k)
+	M               float64   `json:"m"`                     // the exponent of k1
+	W               float64   `json:"w"`                     // the exponent of k2
+	K1              float64   `json:"k1"`                    // air density correction factor delta^m
+	K2              float64   `json:"k2"`                    // humidity correction factor k^w
+	Kt              float64   `json:"kt"`                    // atmospheric correction factor k1 k2
+	Warnings        []Warning `json:"warnings,omitempty"`
 }
 
 // Correct computes the correction for the conditions, the disruptive-discharge voltage

@@ -43,6 +43,9 @@ func WriteAll(d *folder.Folder, p Page) error {
 	if p.Config != nil && !p.Config.Record.Empty() {
 		p.Summary.Record = &p.Config.Record
 	}
+	if p.Config != nil {
+		p.Summary.Atmosphere, _ = p.Config.Atmosphere() // its error is the report's to show
+	}
 	err := d.Write("results.csv", func(f io.Writer) error { return shot.WriteCSV(f, p.Rows) })
 	if err == nil {
 		err = d.Write("results.jsonl", func(f io.Writer) error { return shot.WriteJSONL(f, p.Rows) })

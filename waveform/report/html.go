@@ -10,6 +10,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
@@ -82,6 +83,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{else}}<dt>Test record</dt><dd>not described: the test object, laboratory, operator and measuring system go in the setup file (docs/setup.md)</dd>
 {{end}}<dt>Shots fired</dt><dd>{{.Fired}}</dd>
 <dt>Nominal</dt><dd>{{.Nominal}}</dd>
+{{if .Air}}<dt>Atmosphere</dt><dd>{{.Air}}</dd>{{end}}
 <dt>Tolerances</dt><dd>{{.Tolerances}}</dd>
 <dt>Overshoot</dt><dd>relative to {{.Over}}</dd>
 <dt>Setup</dt><dd>{{if .SetupPath}}{{.SetupPath}}{{else}}none: every channel a divider channel in volts unless a role was given{{end}}</dd>
@@ -213,6 +215,9 @@ func HTML(w io.Writer, p Page) error {
 	}
 	if cfg.Nominal.Peak_v > 0 {
 		nominal += ", test voltage " + shot.FormatDigits(cfg.Nominal.Peak_v/1e3, 4, false) + " kV"
+		if corr, err := cfg.Atmosphere(); err == nil && corr != nil {
+			nominal += " at the standard atmosphere, judged against " + shot.FormatDigits(atmos.ToApply(cfg.Nominal.Peak_v, *corr)/1e3, 4, false) + " kV applied (U0 Kt)"
+		}
 	}
 	t := cfg.Tolerances
 	f := func(v float64) string { return strconv.FormatFloat(v, 'g', 4, 64) }
@@ -308,6 +313,7 @@ func HTML(w io.Writer, p Page) error {
 		}
 		data["Record"], data["Measuring"] = r, strings.Join(ms, ", ")
 	}
+	data["Air"] = air(cfg)
 	data["Fired"] = "not known (no capture states it)"
 	if a, b := s.FirstFired, s.LastFired; a != nil {
 		data["Fired"] = a.Format("2006-01-02 15:04")
@@ -339,4 +345,31 @@ func ratios(cfg *shot.Config) string {
 		out = append(out, k+" x "+strconv.FormatFloat(cfg.Ratios[k], 'g', -1, 64))
 	}
 	return strings.Join(out, "; ")
+}
+
+// air states the series' atmospheric correction with every factor, for the header.
+func air(cfg *shot.Config) string {
+	corr, err := cfg.Atmosphere()
+	switch {
+	case err != nil:
+		return "not corrected: " + err.Error()
+	case corr == nil:
+		return ""
+	}
+	c := corr.Conditions
+	g := func(v float64, n int) string { return strconv.FormatFloat(v, 'f', n, 64) }
+	txt := g(c.Pressure_pa/1e3, 1) + " kPa, " + g(c.Temperature_c, 1) + " °C, "
+	if c.RelHumidity_pct > 0 {
+		txt += g(c.RelHumidity_pct, 0) + " % relative humidity (h " + g(corr.H_g_per_m3, 1) + " g/m³); "
+	} else {
+		txt += "h " + g(corr.H_g_per_m3, 1) + " g/m³; "
+	}
+	txt += "discharge path " + g(corr.Path_m, 2) + " m. δ " + g(corr.Delta, 4) + ", k " + g(corr.K, 4) + ", g " + g(corr.G, 3) +
+		", m " + g(corr.M, 3) + ", w " + g(corr.W, 3) + ", k1 " + g(corr.K1, 4) + ", k2 " + g(corr.K2, 4) + ", Kt " + g(corr.Kt, 4) +
+		". For the withstand test at " + g(cfg.Nominal.Peak_v/1e3, 1) + " kV (U_B = 1.1 × it), apply U0 Kt = " + g(atmos.ToApply(cfg.Nominal.Peak_v, *corr)/1e3, 1) +
+		" kV (IEC 60060-1 clause 4.3, as docs/method.md recalls it)"
+	for _, w := range corr.Warnings {
+		txt += "; " + w.Text
+	}
+	return txt
 }

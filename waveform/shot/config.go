@@ -6,6 +6,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
 )
 
@@ -37,6 +38,10 @@ type Config struct {
 
 	// Record names the test object, laboratory, operator and measuring system.
 	Record TestRecord
+	// Air is the laboratory's air and AirPath_m the test object's minimum discharge
+	// path, for the atmospheric correction (Atmosphere); nil when not described.
+	Air       *atmos.Conditions
+	AirPath_m float64
 }
 
 // NewConfig returns the defaults: IEC 60060-1:2010's tolerances, the settings of
@@ -73,7 +78,9 @@ func FromSetup(s *Setup) *Config {
 	c.Stages = s.Generator.Stages
 	c.Charging_v = math.Abs(s.Generator.ChargingVoltage.V)
 	c.Channels = s.Channels
-	c.Record, _ = s.record(func(...string) int { return 0 }) // checked by ParseSetup
+	none := func(...string) int { return 0 }
+	c.Record, _ = s.record(none) // both checked by ParseSetup
+	c.Air, c.AirPath_m, _ = s.air(none)
 	return c
 }
 

@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"github.com/hvshot/hvshot/waveform"
+	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/probe"
 )
@@ -245,6 +246,10 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		row.Warnings, timeSlip = append(row.Warnings, pw...), len(pw) > 0
 	}
 	nom := cfg.Nominal.For(r.Shape)
+	if corr, err := cfg.Atmosphere(); err == nil && corr != nil && nom.Peak_v > 0 {
+		// a withstand test applies U0 Kt (IEC 60060-1 clause 4.3): judged against that
+		nom.Peak_v = atmos.ToApply(nom.Peak_v, *corr)
+	}
 	code, text, scaleOK := scaleSlip(r.TestVoltage_v, nom.Peak_v)
 	if code != "" {
 		row.Warnings = append(row.Warnings, Warning{code, text})

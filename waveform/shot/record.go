@@ -1,8 +1,11 @@
 package shot
 
 import (
+	"errors"
 	"fmt"
 	"time"
+
+	"github.com/hvshot/hvshot/waveform/atmos"
 )
 
 // TestRecord is what a filed test record names besides the shots: the test object, the
@@ -52,4 +55,83 @@ func (s *Setup) record(at func(k ...string) int) (TestRecord, error) {
 		}
 	}
 	return r, nil
+}
+
+// AtmosphereSetup is the [atmosphere] table: the laboratory's air during the series and
+// the test object's minimum discharge path, for the atmospheric correction (package
+// atmos). Units are in the key names: the trade reads these off its instruments as kPa,
+// degrees Celsius and percent.
+type AtmosphereSetup struct {
+	Pressure_kpa         *float64 `toml:"pressure_kpa"`
+	Temperature_c        *float64 `toml:"temperature_c"`
+	RelHumidity_pct      *float64 `toml:"relative_humidity_pct"`
+	AbsHumidity_g_per_m3 *float64 `toml:"absolute_humidity_g_per_m3"`
+	Path_m               *float64 `toml:"discharge_path_m"`
+}
+
+// atmosKeys are the table's keys by the atmos field they fill, for messages.
+var atmosKeys = map[string]string{"Pressure_pa": "pressure_kpa", "Temperature_c": "temperature_c",
+	"RelHumidity_pct": "relative_humidity_pct", "AbsHumidity_g_per_m3": "absolute_humidity_g_per_m3", "path_m": "discharge_path_m"}
+
+// air checks the [atmosphere] table and returns its conditions and path; nil when the
+// setup has none.
+func (s *Setup) air(at func(k ...string) int) (*atmos.Conditions, float64, error) {
+	a := s.Atmosphere
+	if a == nil {
+		return nil, 0, nil
+	}
+	bad := func(key, format string, v ...any) error {
+		return &SetupError{File: s.Path, Line: at("atmosphere", key), Key: "atmosphere." + key, Msg: fmt.Sprintf(format, v...)}
+	}
+	for _, k := range []struct {
+		v   *float64
+		key string
+	}{{a.Pressure_kpa, "pressure_kpa"}, {a.Temperature_c, "temperature_c"}, {a.Path_m, "discharge_path_m"}} {
+		if k.v == nil {
+			return nil, 0, bad(k.key, "missing: the correction needs the pressure, the temperature, a humidity and the discharge path")
+		}
+	}
+	if (a.RelHumidity_pct == nil) == (a.AbsHumidity_g_per_m3 == nil) {
+		return nil, 0, bad("relative_humidity_pct", "give one humidity: relative_humidity_pct or absolute_humidity_g_per_m3")
+	}
+	c := atmos.Conditions{Pressure_pa: *a.Pressure_kpa * 1e3, Temperature_c: *a.Temperature_c}
+	if a.RelHumidity_pct != nil {
+		c.RelHumidity_pct = *a.RelHumidity_pct
+	} else {
+		c.AbsHumidity_g_per_m3 = *a.AbsHumidity_g_per_m3
+	}
+	if err := c.Check(); err != nil {
+		var fe *atmos.FieldError
+		if errors.As(err, &fe) {
+			v := fe.Value
+			if fe.Field == "Pressure_pa" {
+				v /= 1e3
+			}
+			return nil, 0, bad(atmosKeys[fe.Field], "%g: %s", v, fe.Reason)
+		}
+		return nil, 0, bad("pressure_kpa", "%v", err)
+	}
+	if !(*a.Path_m > 0 && *a.Path_m < 100) {
+		return nil, 0, bad("discharge_path_m", "%g: the minimum discharge path in metres, above 0 and below 100", *a.Path_m)
+	}
+	if !s.Nominal.TestVoltage.Set {
+		return nil, 0, bad("pressure_kpa", "the correction is computed for a withstand test at the nominal test voltage: give [nominal] test_voltage")
+	}
+	return &c, *a.Path_m, nil
+}
+
+// Atmosphere is the atmospheric correction of the series' withstand test at the
+// nominal test voltage (atmos.CorrectWithstand); nil when the setup describes no air.
+func (c *Config) Atmosphere() (*atmos.Correction, error) {
+	if c.Air == nil {
+		return nil, nil
+	}
+	if !(c.Nominal.Peak_v > 0) {
+		return nil, fmt.Errorf("the atmospheric correction needs the nominal test voltage")
+	}
+	corr, err := atmos.CorrectWithstand(*c.Air, c.Nominal.Peak_v, c.AirPath_m)
+	if err != nil {
+		return nil, err
+	}
+	return &corr, nil
 }

@@ -5,6 +5,7 @@ import (
 	"slices"
 	"time"
 
+	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
 )
 
@@ -45,6 +46,9 @@ type Summary struct {
 	LastFired  *time.Time `json:"last_fired,omitempty"`
 	// Record is the test record the setup describes (set by the caller).
 	Record *TestRecord `json:"record,omitempty"`
+	// Atmosphere is the series' atmospheric correction (Config.Atmosphere; set by the
+	// caller).
+	Atmosphere *atmos.Correction `json:"atmosphere,omitempty"`
 }
 
 // Series accumulates shots into a Summary without keeping them: its memory does not

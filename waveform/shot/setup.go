@@ -66,20 +66,21 @@ func (q Quantity) in(key, unit string) error {
 
 // Setup is a test series' setup file.
 type Setup struct {
-	Series     string         `toml:"series"`
-	TestObject string         `toml:"test_object"`
-	ObjectID   string         `toml:"object_id"`
-	Laboratory string         `toml:"laboratory"`
-	Operator   string         `toml:"operator"`
-	Measuring  MeasuringSetup `toml:"measuring_system"`
-	Nominal    NominalSetup   `toml:"nominal"`
-	Tolerance  ToleranceSetup `toml:"tolerance"`
-	Method     MethodSetup    `toml:"method"`
-	Generator  GeneratorSetup `toml:"generator"`
-	Read       ReadSetup      `toml:"read"`
-	Channels   []ChannelSetup `toml:"channel"`
-	Path       string         `toml:"-"` // where it was read from, for the report
-	Text       string         `toml:"-"` // as written, for the report
+	Series     string           `toml:"series"`
+	TestObject string           `toml:"test_object"`
+	ObjectID   string           `toml:"object_id"`
+	Laboratory string           `toml:"laboratory"`
+	Operator   string           `toml:"operator"`
+	Measuring  MeasuringSetup   `toml:"measuring_system"`
+	Atmosphere *AtmosphereSetup `toml:"atmosphere"`
+	Nominal    NominalSetup     `toml:"nominal"`
+	Tolerance  ToleranceSetup   `toml:"tolerance"`
+	Method     MethodSetup      `toml:"method"`
+	Generator  GeneratorSetup   `toml:"generator"`
+	Read       ReadSetup        `toml:"read"`
+	Channels   []ChannelSetup   `toml:"channel"`
+	Path       string           `toml:"-"` // where it was read from, for the report
+	Text       string           `toml:"-"` // as written, for the report
 }
 
 // NominalSetup is the [nominal] table.
@@ -286,6 +287,9 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 		}
 	}
 	if _, err := s.record(at); err != nil {
+		return nil, err
+	}
+	if _, _, err := s.air(at); err != nil {
 		return nil, err
 	}
 	if s.Generator.Stages < 0 {

@@ -6,6 +6,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/shot"
 	"github.com/hvshot/hvshot/waveform/synth"
 )
@@ -86,5 +87,40 @@ func TestNearest(t *testing.T) {
 		{"divder", "divider"}, {"DIVIDER", "divider"}, {"col", "coil"}, {"b_dot", "B-dot"}, {"probe7", ""}, {"", ""},
 	} {
 		assert.Equal(t, c.want, shot.Nearest(c.in, names), c.in)
+	}
+}
+
+// The [atmosphere] table: a withstand test at the nominal test voltage is judged against
+// the voltage to apply, U0 Kt (IEC 60060-1:2010 clause 4.3, from memory); the factors
+// themselves are waveform/atmos's, checked there against testdata/reference/atmos_refs.py.
+// Thin air (90 kPa, 30 °C) gives Kt well below 1: a shot fired at U0 Kt passes with the
+// table and fails without it.
+func TestAtmosphereSetsTheVoltageToApply(t *testing.T) {
+	text := "[nominal]\nshape = \"1.2/50\"\ntest_voltage = \"300 kV\"\n[atmosphere]\npressure_kpa = 90\ntemperature_c = 30\nrelative_humidity_pct = 40\ndischarge_path_m = 0.6\n"
+	s, err := shot.ParseSetup([]byte(text), "s.toml")
+	require.NoError(t, err)
+	cfg := shot.FromSetup(s)
+	corr, err := cfg.Atmosphere()
+	require.NoError(t, err)
+	require.NotNil(t, corr)
+	require.Less(t, corr.Kt, 0.95, "thin air")
+	applied := atmos.ToApply(300e3, *corr)
+	rec := record(t, 1.2, 3)
+	synth.Scale(&rec.Channels[0], applied/300e3)
+	row := shot.Evaluate(rec, "a.csv", cfg).Rows[0]
+	assert.Equal(t, shot.Pass, row.Verdict, "%v", row.Failures)
+	plain := *cfg
+	plain.Air = nil
+	assert.Equal(t, shot.Fail, shot.Evaluate(rec, "a.csv", &plain).Rows[0].Verdict, "judged against U0 it is too low")
+	// the table's mistakes, at their lines
+	for _, c := range []struct{ text, want string }{
+		{"[nominal]\ntest_voltage = \"300 kV\"\n[atmosphere]\npressure_kpa = 900\ntemperature_c = 20\nrelative_humidity_pct = 40\ndischarge_path_m = 1\n", "s.toml:4: atmosphere.pressure_kpa: 900"},
+		{"[nominal]\ntest_voltage = \"300 kV\"\n[atmosphere]\npressure_kpa = 100\ntemperature_c = 20\ndischarge_path_m = 1\n", "give one humidity"},
+		{"[nominal]\ntest_voltage = \"300 kV\"\n[atmosphere]\npressure_kpa = 100\ntemperature_c = 20\nrelative_humidity_pct = 40\n", "atmosphere.discharge_path_m: missing"},
+		{"[atmosphere]\npressure_kpa = 100\ntemperature_c = 20\nrelative_humidity_pct = 40\ndischarge_path_m = 1\n", "give [nominal] test_voltage"},
+	} {
+		_, err := shot.ParseSetup([]byte(c.text), "s.toml")
+		require.Error(t, err)
+		assert.Contains(t, err.Error(), c.want)
 	}
 }
