@@ -125,3 +125,20 @@ func TestBlankLinesCostNoMemory(t *testing.T) {
 	five, ten := alloc(5_000_000), alloc(10_000_000)
 	assert.Less(t, float64(ten), 1.1*float64(five)+(1<<20), "5 M blank lines: %d bytes, 10 M: %d", five, ten)
 }
+
+// A channel of NaN, as pandas' to_csv writes it (na_rep defaults to an empty string,
+// pandas documentation), is named in a warning when it is left out, never dropped in
+// silence.
+func TestNamedEmptyColumnWarns(t *testing.T) {
+	var b strings.Builder
+	b.WriteString("time_s,voltage_v,current_a\n")
+	for i := 0; i < 50; i++ {
+		fmt.Fprintf(&b, "%g,,%g\n", float64(i)*5e-9, float64(i))
+	}
+	rec, err := ReadText(strings.NewReader(b.String()), "nan.csv", TextOptions{})
+	require.NoError(t, err)
+	require.Len(t, rec.Channels, 1)
+	assert.Equal(t, "current", rec.Channels[0].Name) // its unit suffix read as the unit
+	require.NotEmpty(t, rec.Warnings)
+	assert.Contains(t, rec.Warnings[0], `column 2 ("voltage_v") empty on every row`)
+}

@@ -157,6 +157,9 @@ func (p *plan) build(rr *rowReader, opt TextOptions, file string) (*waveform.Rec
 	lineOf := func(row int) int { return d.DataLine + row + rr.skips.before(row) }
 	rec := &waveform.Record{Source: file, Format: "text (" + d.String() + ")", Meta: p.pre.meta, Trigger: p.pre.trigger}
 	rec.Warnings = append(rec.Warnings, p.pre.warnings...)
+	if p.emptyWarn != "" {
+		rec.Warnings = append(rec.Warnings, p.emptyWarn)
+	}
 	rec.Notes = append(rec.Notes, p.notes...)
 	if rows == 0 {
 		return nil, lineErr(file, d.DataLine, 1, ErrNoData, "every row has empty value cells")

@@ -34,8 +34,12 @@ type plan struct {
 	keep []int
 	// strict: a field outside keep must be empty (an empty column), not text.
 	strict bool
-	all    []int // 0..d.Fields-1, to classify a row the fast path refused
-	blocks int   // side layout: channel blocks
+	// empty lists the columns empty on every row of the head; emptyWarn names those
+	// the header names, for the record's warnings.
+	empty     []int
+	emptyWarn string
+	all       []int // 0..d.Fields-1, to classify a row the fast path refused
+	blocks    int   // side layout: channel blocks
 
 	names, units []string // per kept column; nil without a header
 	nameLine     int
@@ -307,6 +311,9 @@ func detect(lines []sniffLine, complete bool, file string) (*plan, error) {
 	if err := p.findHeader(lines, bestStart, file); err != nil {
 		return nil, err
 	}
+	if err := p.emptyNamed(file); err != nil {
+		return nil, err
+	}
 	upto := p.d.DataLine
 	if p.d.HeaderLine > 0 {
 		upto = p.d.HeaderLine
@@ -418,7 +425,48 @@ func (p *plan) emptyColumns(lines []sniffLine, start int) {
 	if len(keep) < p.d.Fields && len(keep) > 0 {
 		p.keep, p.strict = keep, true
 		p.notes = append(p.notes, fmt.Sprintf("%d empty column(s) between the delimiters ignored", p.d.Fields-len(keep)))
+		for i, u := range used {
+			if !u {
+				p.empty = append(p.empty, i)
+			}
+		}
 	}
+}
+
+// emptyNamed turns empty columns that the header names into a warning, or, when no
+// column of values is left, an error: a named channel with no values is a channel of
+// NaN (pandas writes NaN as an empty cell) or one not recorded, never nothing.
+func (p *plan) emptyNamed(file string) error {
+	var cells []string
+	for i, no := range p.headerNos {
+		if no == p.nameLine {
+			splitFields([]byte(p.headerLines[i]), p.d.Delim, func(f []byte, _ int) bool {
+				cells = append(cells, strings.TrimSpace(string(f)))
+				return true
+			})
+		}
+	}
+	var named []string
+	for _, c := range p.empty {
+		// a column of the names (not a setting named beside them, which has its value
+		// on the line below and nothing in the rows)
+		if c < len(cells) && c < len(p.names) && cells[c] != "" {
+			named = append(named, fmt.Sprintf("column %d (%q)", c+1, cells[c]))
+		}
+	}
+	if len(named) == 0 {
+		return nil
+	}
+	what := strings.Join(named, ", ") + " empty on every row read: NaN written as empty cells, or a channel not recorded"
+	kept := len(p.keep)
+	if p.keep == nil {
+		kept = p.d.Fields
+	}
+	if kept < 2 {
+		return lineErr(file, p.d.DataLine, 0, ErrNoData, what+"; no column of values is left")
+	}
+	p.emptyWarn = what + "; left out"
+	return nil
 }
 
 // unitsRow reports whether the first w cells of a header line are units or empty,

@@ -102,6 +102,14 @@ func TestDefaultOutputNeverCollides(t *testing.T) {
 		assert.FileExists(t, r)
 		assert.Equal(t, dir, filepath.Dir(filepath.Dir(r)), "beside the captures folder")
 	}
+	// run from inside the folder as "analyze .": beside it too, never inside an input
+	wd, _ := os.Getwd()
+	require.NoError(t, os.Chdir(caps))
+	defer os.Chdir(wd)
+	code, _, stderr := runCmd("analyze", "--plots", "none", ".")
+	require.Equal(t, exitOK, code, stderr)
+	r := strings.TrimSpace(strings.TrimPrefix(stderr[strings.LastIndex(stderr, "report: "):], "report: "))
+	assert.Equal(t, dir, filepath.Dir(filepath.Dir(r)), "beside the captures folder, not in it: %s", r)
 }
 
 // watch evaluates a file once it is complete, replaces a file's rows when it changes,

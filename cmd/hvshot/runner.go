@@ -56,7 +56,8 @@ func tellLeftOut(e *env, name string, skipped []string, quiet bool, told map[str
 // the inputs: beside a folder given, in the folder of a file given.
 func outputFolder(out string, inputs []string, replace bool) (*folder.Folder, error) {
 	if out == "" {
-		return folder.New(filepath.Dir(filepath.Clean(inputs[0])), folder.Stem(time.Now()))
+		in, _ := filepath.Abs(inputs[0]) // "." is a folder too: beside it, not in it
+		return folder.New(filepath.Dir(in), folder.Stem(time.Now()))
 	}
 	f, err := folder.Open(out, folder.Options{Report: "report.html", Replace: replace, Clean: report.Outputs})
 	if err != nil {

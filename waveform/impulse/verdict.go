@@ -217,7 +217,11 @@ func EvaluateChannel(c *waveform.Channel, t0, dt float64, s Settings) (*Result, 
 		return nil, err
 	}
 	if cl, ok := waveform.DetectClipping(c); ok {
-		r.warn("clipped", "%d samples stuck at %.4g %s from sample %d: the extreme, the test voltage and the overshoot are not trustworthy", cl.Length, cl.Level, c.Unit, cl.Index)
+		level := fmt.Sprintf("%.4g kV", cl.Level/1e3) // a divider channel is in volts after its ratio
+		if c.Unit != "" && c.Unit != "V" {
+			level = fmt.Sprintf("%.4g %s", cl.Level, c.Unit)
+		}
+		r.warn("clipped", "%d samples stuck at %s from sample %d (the scope's range): the extreme, the test voltage and the overshoot are not trustworthy; set a wider range", cl.Length, level, cl.Index)
 	}
 	return r, nil
 }

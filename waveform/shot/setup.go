@@ -28,6 +28,7 @@ type Quantity struct {
 	V    float64
 	Set  bool
 	Unit string // the SI unit the text gave; "" for a bare number
+	bare bool   // text with no unit ("300"): refused where a unit is expected
 }
 
 // UnmarshalTOML reads a bare number or a string with a unit.
@@ -43,9 +44,10 @@ func (q *Quantity) UnmarshalTOML(v any) error {
 			return err
 		}
 		if u == "" {
-			return fmt.Errorf("%q has no unit: write it with one (\"300 kV\"), or as a bare number in SI (300e3)", x)
+			q.V, q.bare = f, true // a dimensionless value (a ratio) may be written so; in says
+		} else {
+			q.V, q.Unit = f, u
 		}
-		q.V, q.Unit = f, u
 	default:
 		return fmt.Errorf("want a number or a string with a unit, got %T", v)
 	}
@@ -58,6 +60,9 @@ func (q *Quantity) UnmarshalTOML(v any) error {
 
 // in checks that the quantity, if given with a unit, has the one expected.
 func (q Quantity) in(key, unit string) error {
+	if q.bare {
+		return fmt.Errorf("%s: \"%g\" has no unit: write it with one (\"300 kV\"), or as a bare number in SI (300e3)", key, q.V)
+	}
 	if q.Set && q.Unit != "" && q.Unit != unit {
 		return fmt.Errorf("%s: %s is not a unit of %s", key, q.Unit, map[string]string{"V": "voltage", "s": "time", "H": "inductance", "ohm": "resistance", "F": "capacitance", "m": "length", "Hz": "frequency"}[unit])
 	}
@@ -211,6 +216,9 @@ func keyLine(text string, key toml.Key) int {
 		l := strings.TrimSpace(sc.Text())
 		if strings.HasPrefix(l, "[") {
 			table = strings.Trim(l, "[] ")
+			if table == strings.Join(key, ".") {
+				return no // the key is a table's own name
+			}
 			continue
 		}
 		if i := strings.IndexByte(l, '='); i > 0 && strings.TrimSpace(l[:i]) == want && (table == parent || parent == "" && table == "") {
@@ -229,6 +237,9 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
 			msg := pe.Message
+			if strings.HasPrefix(msg, "expected a top-level item to end with") {
+				msg += `: a value with a slash or a space in it is text and needs quotes, as in shape = "1.2/50"`
+			}
 			if m := reBareWord.FindStringSubmatch(msg); m != nil {
 				word, key := strings.Trim(m[1], `"`), pe.LastKey[strings.LastIndex(pe.LastKey, ".")+1:]
 				msg = fmt.Sprintf("%s is not a value: text needs quotes, as in %s = \"%s\"", word, key, word)
@@ -238,6 +249,9 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 		// decode errors read "toml: line N (last key "k"): message"
 		if m := reDecodeErr.FindStringSubmatch(err.Error()); m != nil {
 			line, _ := strconv.Atoi(m[1])
+			if m[2] == "channel" && strings.Contains(m[3], "destination has type slice") {
+				m[3] = "write [[channel]], with two brackets: each channel is one table of a list"
+			}
 			return nil, &SetupError{File: file, Line: line, Key: m[2], Msg: m[3]}
 		}
 		return nil, &SetupError{File: file, Msg: strings.TrimPrefix(err.Error(), "toml: ")}

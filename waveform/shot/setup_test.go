@@ -31,6 +31,9 @@ func TestSetupErrorsNameKeyAndLine(t *testing.T) {
 		{"mistyped key", "[nominal]\nshap = \"1.2/50\"\n", []string{"s.toml:2", "did you mean shape?"}},
 		{"implausible uncertainty", "[measuring_system]\nname = \"DV-3\"\nexpanded_uncertainty_pct = 150\n", []string{"s.toml:3", "measuring_system.expanded_uncertainty_pct", "below 20"}},
 		{"calibration not a date", "[measuring_system]\ncalibrated = \"March 2026\"\n", []string{"s.toml:2", "a date written 2026-03-14"}},
+		{"text with a slash, unquoted", "[nominal]\nshape = 1.2/50\n", []string{"s.toml:2", `needs quotes, as in shape = "1.2/50"`}},
+		{"one bracket for channel", "[channel]\nmatch = \"d\"\nrole = \"divider\"\n", []string{"s.toml:1", "write [[channel]], with two brackets"}},
+		{"mistyped table", "series = \"x\"\n[nominall]\nshape = \"1.2/50\"\n", []string{"s.toml:2", "did you mean nominal?"}},
 		{"coil needs its load", "[[channel]]\nindex = 2\nrole = \"coil\"\n[channel.coil]\nmutual = \"1 nH\"\n", []string{"s.toml:1", "load_resistance"}},
 	}
 	for _, c := range cases {
@@ -123,4 +126,15 @@ func TestAtmosphereSetsTheVoltageToApply(t *testing.T) {
 		require.Error(t, err)
 		assert.Contains(t, err.Error(), c.want)
 	}
+}
+
+// A ratio has no unit: written as text ("1000", as spreadsheets export it) it is read as
+// the number; a voltage written so is still refused.
+func TestRatioAsText(t *testing.T) {
+	s, err := shot.ParseSetup([]byte("[[channel]]\nmatch = \"d\"\nrole = \"divider\"\nratio = \"1000\"\n"), "s.toml")
+	require.NoError(t, err)
+	assert.Equal(t, 1000.0, s.Channels[0].Ratio.V)
+	_, err = shot.ParseSetup([]byte("[nominal]\ntest_voltage = \"300\"\n"), "s.toml")
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), "s.toml:2: nominal.test_voltage: \"300\" has no unit")
 }
