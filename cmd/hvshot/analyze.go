@@ -182,6 +182,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		fmt.Fprintf(e.stderr, "report: %s\n", filepath.Join(out.Path, "report.html"))
 	}
 	if interrupted {
+		fmt.Fprintf(e.stderr, "hvshot %s: interrupted after %d of %d files; what was done is written\n", name, sum.Files, len(files))
 		return exitInterrupted
 	}
 	if lost {

@@ -31,6 +31,7 @@ func startBatch(t *testing.T, out string) *exec.Cmd {
 	}
 	cmd := exec.Command(os.Args[0], "analyze", "--quiet", "--jobs", "1", "--out", out, dir)
 	cmd.Env = append(os.Environ(), "HVSHOT_AS_MAIN=1")
+	cmd.Stderr = new(bytes.Buffer)
 	require.NoError(t, cmd.Start())
 	deadline := time.Now().Add(30 * time.Second)
 	for time.Now().Before(deadline) {
@@ -60,6 +61,7 @@ func TestSignalsStopCleanly(t *testing.T) {
 			assert.True(t, sum.Interrupted)
 			assert.Greater(t, sum.Files, 0)
 			assert.Less(t, sum.Files, 40)
+			assert.Contains(t, cmd.Stderr.(*bytes.Buffer).String(), fmt.Sprintf("interrupted after %d of 40 files", sum.Files), "said on stderr, even with --quiet")
 			lines := strings.Split(strings.TrimSpace(string(mustRead(t, filepath.Join(out, "results.jsonl")))), "\n")
 			assert.Len(t, lines, sum.Rows)
 			assert.True(t, bytes.HasSuffix(bytes.TrimSpace(mustRead(t, filepath.Join(out, "report.html"))), []byte("</html>")))

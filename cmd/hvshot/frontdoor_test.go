@@ -243,7 +243,7 @@ func TestRunIsRecordedAndSmallMistakes(t *testing.T) {
 	require.Equal(t, exitOK, code, stderr)
 	html := string(mustRead(t, filepath.Join(out, "report.html")))
 	assert.Contains(t, html, "every divider channel x 1000")
-	assert.Contains(t, html, "hvshot analyze --quiet --plots none --ratio 1000")
+	assert.Contains(t, html, `<span class="arg">analyze</span> <span class="arg">--quiet</span> <span class="arg">--plots</span> <span class="arg">none</span> <span class="arg">--ratio</span> <span class="arg">1000</span>`, "the command as typed, each argument kept whole")
 	var sum shot.Summary
 	require.NoError(t, json.Unmarshal(mustRead(t, filepath.Join(out, "summary.json")), &sum))
 	assert.Equal(t, []string{"hvshot", "analyze", "--quiet", "--plots", "none", "--ratio", "1000", "--out", out, p}, sum.Command)

@@ -60,7 +60,7 @@ dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:
 .synthetic{background:#fde8e8;border:2px solid #a00000;color:#a00000;font-weight:bold;padding:.5em .8em;margin:.8em 0}
 .shot{border:1px solid #ddd;padding:.4em .8em;margin:1em 0;border-radius:4px}.charts{break-inside:avoid;margin:.5em 0}
 .params{display:flex;flex-wrap:wrap;gap:.2em .4em;margin:.4em 0;padding:0}.params div{border:1px solid #ddd;border-radius:3px;padding:.05em .4em;font-size:.85em;white-space:nowrap}.params dt{display:inline;color:#555}.params dd{display:inline;margin:0 0 0 .3em;font-variant-numeric:tabular-nums}
-.msg{overflow-wrap:anywhere}
+.msg{overflow-wrap:anywhere}code .arg{display:inline-block;max-width:100%;overflow-wrap:anywhere}
 .plot svg,.plot img{width:100%;height:auto;display:block}
 .plot svg text{font-family:"Liberation Sans",Arial,Helvetica,sans-serif!important}
 .warn{color:var(--error);font-size:.9em}.safety{background:#fff4e5;border:2px solid #e0a040;padding:.6em 1em;margin-top:2.5em}
@@ -88,7 +88,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 <dt>Overshoot</dt><dd>relative to {{.Over}}</dd>
 <dt>Setup</dt><dd>{{if .SetupPath}}{{.SetupPath}}{{else}}none: every channel a divider channel in volts unless a role was given{{end}}</dd>
 {{if .Ratios}}<dt>Ratios</dt><dd>{{.Ratios}}</dd>{{end}}
-{{if .Command}}<dt>Command</dt><dd><code>{{.Command}}</code></dd>{{end}}
+{{if .Command}}<dt>Command</dt><dd><code>{{range .Command}}<span class="arg">{{.}}</span> {{end}}</code></dd>{{end}}
 <dt>Made</dt><dd>{{.When}} by hvshot {{.Version}}</dd>
 </dl>
 </header>
@@ -110,9 +110,9 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Charts}}<h2 id="series-charts">The series at a glance</h2>
 <div class="plot charts">{{.Charts}}</div>{{end}}
 <h2>Shots, failing and unreadable first</h2>
-<table class="shots" id="shots-table"><thead><tr><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th><th class="l">pol.</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr></thead>
-{{range $i, $r := .Rows}}{{if .First}}{{if $i}}</tbody>{{end}}<tbody class="first">{{end}}<tr><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td><td class="l">{{.Pol}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l v {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
-{{if .Why}}<tr class="why"><td></td><td colspan="{{$.Span}}" class="{{.R.Verdict}}-why">{{.Why}}</td></tr>{{end}}
+<table class="shots" id="shots-table"><thead><tr><th title="in firing order, as the series charts number it">no.</th><th class="l">shot</th><th class="l">channel</th><th class="l">shape</th><th class="l">pol.</th>{{range .Heads}}<th>{{.Label}}<br>{{.Unit}}</th>{{end}}<th class="l">verdict</th></tr></thead>
+{{range $i, $r := .Rows}}{{if .First}}{{if $i}}</tbody>{{end}}<tbody class="first">{{end}}<tr><td class="num">{{if .First}}{{.No}}{{end}}</td><td class="l shot">{{if .First}}<a href="#{{.Anchor}}">{{.R.File}}</a>{{end}}</td><td class="l">{{.Channel}}</td><td class="l shape">{{.R.Shape}}</td><td class="l">{{.Pol}}</td>{{range .Cells}}<td class="num">{{.}}</td>{{end}}<td class="l v {{.R.Verdict}}">{{.R.Verdict.Word}}</td></tr>
+{{if .Why}}<tr class="why"><td></td><td></td><td colspan="{{$.Span}}" class="{{.R.Verdict}}-why">{{.Why}}</td></tr>{{end}}
 {{end}}{{if .Rows}}</tbody>{{end}}</table>
 {{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}}{{if ne .Channel "-"}} · {{.Channel}}{{end}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
 {{if .Kind}}<p>{{.Kind}}</p>{{end}}
@@ -129,6 +129,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 
 type htmlRow struct {
 	R       *shot.Row
+	No      int  // in firing order, as the series charts number it
 	First   bool // the first row of its shot
 	Anchor  string
 	Channel string
@@ -171,6 +172,7 @@ func HTML(w io.Writer, p Page) error {
 		heads = append(heads, head{c.Label, strings.ReplaceAll(c.Screen, "us", "µs")})
 	}
 	var rows []htmlRow
+	order, _ := FiringOrder(p.Rows)
 	k := 0
 	for n, i := range idx {
 		r := &p.Rows[i]
@@ -178,7 +180,7 @@ func HTML(w io.Writer, p Page) error {
 		if first {
 			k = 0
 		}
-		x := htmlRow{R: r, First: first, Anchor: shot.Anchor(r.File, k), Channel: r.Channel, Why: Why(r), Pol: polWord(r.Polarity)}
+		x := htmlRow{R: r, First: first, Anchor: shot.Anchor(r.File, k), Channel: r.Channel, Why: Why(r), Pol: polWord(r.Polarity), No: order[r.File]}
 		k++
 		if x.Channel == "" {
 			x.Channel = "-"
@@ -257,9 +259,18 @@ func HTML(w io.Writer, p Page) error {
 	}
 	syn := ""
 	if n := len(synthetic); n > 0 {
+		unread := 0 // a file that could not be read cannot say what it is
+		for f, k := range worst {
+			if k == 0 && !synthetic[f] {
+				unread++
+			}
+		}
 		syn = strconv.Itoa(n) + " of " + strconv.Itoa(len(worst)) + " shots are synthetic,"
-		if n == len(worst) {
+		switch {
+		case n == len(worst):
 			syn = "every shot is synthetic,"
+		case n+unread == len(worst):
+			syn = strconv.Itoa(n) + " of " + strconv.Itoa(len(worst)) + " shots are synthetic and the other " + strconv.Itoa(unread) + " could not be read to tell,"
 		}
 	}
 	plot := func(rel string) template.HTML {
@@ -295,7 +306,7 @@ func HTML(w io.Writer, p Page) error {
 		"Title":  title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04 MST"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
-		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": strings.Join(s.Command, " "), "Ratios": ratios(cfg),
+		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": s.Command, "Ratios": ratios(cfg),
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path

@@ -145,3 +145,19 @@ func BenchmarkPlot(b *testing.B) {
 		b.SetBytes(int64(buf.Len()))
 	}
 }
+
+// Shots are numbered in firing order, each identity once: by firing time, and a shot
+// with none (an unreadable file) right after the one before it in input order, so the
+// charts keep its gap and the table's numbers match the charts'.
+func TestFiringOrder(t *testing.T) {
+	at := func(min int) time.Time { return time.Date(2026, 11, 30, 10, min, 0, 0, time.UTC) }
+	rows := []shot.Row{
+		{File: "b.csv", Fired: at(20)}, {File: "b.csv", Fired: at(20)}, // two channels, one shot
+		{File: "broken.csv"}, // after b in input order, no time
+		{File: "a.csv", Fired: at(5)},
+		{File: "c.csv", Fired: at(30)},
+	}
+	no, n := report.FiringOrder(rows)
+	assert.Equal(t, 4, n)
+	assert.Equal(t, map[string]int{"a.csv": 1, "b.csv": 2, "broken.csv": 3, "c.csv": 4}, no)
+}

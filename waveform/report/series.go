@@ -7,6 +7,7 @@ import (
 	"math"
 	"sort"
 	"strings"
+	"time"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
@@ -46,11 +47,7 @@ func SeriesCharts(w io.Writer, rows []shot.Row, traces []shot.Trace, cfg *shot.C
 	if len(div) == 0 {
 		return nil
 	}
-	// firing order: the stated or file times, then input order
-	sort.SliceStable(div, func(a, b int) bool {
-		fa, fb := div[a].Fired, div[b].Fired
-		return !fa.IsZero() && !fb.IsZero() && fa.Before(fb)
-	})
+	pos, n := FiringOrder(rows)
 	switching := 0
 	for _, r := range div {
 		if r.Shape == impulse.Switching {
@@ -67,10 +64,10 @@ func SeriesCharts(w io.Writer, rows []shot.Row, traces []shot.Trace, cfg *shot.C
 	panel := func(c *shot.Column, nominal, pct float64, legend bool) *plot.Plot {
 		unit := strings.ReplaceAll(c.Screen, "us", "µs")
 		p := newPanel(fmt.Sprintf("%s (%s)", c.Stat, unit), fmt.Sprintf("%s (%s)", c.Label, unit))
-		p.X.Label.Text = "shot, in firing order"
+		p.X.Label.Text = "shot no., in firing order"
 		if nominal > 0 {
 			for _, k := range []float64{1 - pct/100, 1 + pct/100} {
-				band := line(plotter.XYs{{X: 0.5, Y: nominal * k * c.Scale}, {X: float64(len(div)) + 0.5, Y: nominal * k * c.Scale}}, colBand, vg.Points(0.8), vg.Points(3), vg.Points(2))
+				band := line(plotter.XYs{{X: 0.5, Y: nominal * k * c.Scale}, {X: float64(n) + 0.5, Y: nominal * k * c.Scale}}, colBand, vg.Points(0.8), vg.Points(3), vg.Points(2))
 				p.Add(band)
 				if legend && k < 1 {
 					p.Legend.Add("tolerance band", band)
@@ -79,9 +76,9 @@ func SeriesCharts(w io.Writer, rows []shot.Row, traces []shot.Trace, cfg *shot.C
 		}
 		for _, m := range verdictMarks {
 			var pts plotter.XYs
-			for i, r := range div {
+			for _, r := range div {
 				if v, ok := r.Value(c); ok && r.Verdict == m.v && family(r) {
-					pts = append(pts, plotter.XY{X: float64(i + 1), Y: v * c.Scale})
+					pts = append(pts, plotter.XY{X: float64(pos[r.File]), Y: v * c.Scale})
 				}
 			}
 			if len(pts) == 0 {
@@ -94,8 +91,12 @@ func SeriesCharts(w io.Writer, rows []shot.Row, traces []shot.Trace, cfg *shot.C
 				p.Legend.Add(m.label, sc)
 			}
 		}
-		p.X.Min, p.X.Max = 0.5, float64(len(div))+0.5
-		p.X.Tick.Marker = orderTicks(len(div))
+		p.X.Min, p.X.Max = 0.5, float64(n)+0.5
+		p.X.Tick.Marker = orderTicks(n)
+		// room for the glyphs at the extremes, which would otherwise sit on the frame
+		if pad := 0.06 * (p.Y.Max - p.Y.Min); pad > 0 {
+			p.Y.Min, p.Y.Max = p.Y.Min-pad, p.Y.Max+pad
+		}
 		return p
 	}
 	ut := panel(shot.ColTestVoltage, nom.Peak_v, cfg.Tolerances.TestVoltage_pct, true)
@@ -127,6 +128,36 @@ func SeriesCharts(w io.Writer, rows []shot.Row, traces []shot.Trace, cfg *shot.C
 	}
 	_, err := c.WriteTo(w)
 	return err
+}
+
+// FiringOrder numbers every shot of the series (each identity once, error rows too, so
+// that a shot that could not be evaluated leaves its gap) in the order it was fired:
+// by its firing time, a shot with none right after the one before it in input order.
+// The report's table and the series charts share the numbers.
+func FiringOrder(rows []shot.Row) (no map[string]int, n int) {
+	type file struct {
+		id  string
+		key time.Time
+	}
+	var files []file
+	no = map[string]int{}
+	var last time.Time
+	for i := range rows {
+		r := &rows[i]
+		if _, seen := no[r.File]; seen {
+			continue
+		}
+		no[r.File] = 0
+		if !r.Fired.IsZero() {
+			last = r.Fired
+		}
+		files = append(files, file{r.File, last})
+	}
+	sort.SliceStable(files, func(a, b int) bool { return files[a].key.Before(files[b].key) })
+	for i, f := range files {
+		no[f.id] = i + 1
+	}
+	return no, len(files)
 }
 
 // orderTicks labels shot numbers: every one for a few shots, round steps for many.
