@@ -259,18 +259,12 @@ func HTML(w io.Writer, p Page) error {
 	}
 	syn := ""
 	if n := len(synthetic); n > 0 {
-		unread := 0 // a file that could not be read cannot say what it is
-		for f, k := range worst {
-			if k == 0 && !synthetic[f] {
-				unread++
-			}
-		}
-		syn = strconv.Itoa(n) + " of " + strconv.Itoa(len(worst)) + " shots are synthetic,"
-		switch {
-		case n == len(worst):
+		// a file that could not be read, or a format with no room for a note (.npy),
+		// cannot say what it is: the banner says how many say so, not more
+		syn = strconv.Itoa(n) + " of " + strconv.Itoa(len(worst)) + " shots are marked synthetic (the other " + strconv.Itoa(len(worst)-n) +
+			" carry no mark either way: unreadable, or in a format with no room for one),"
+		if n == len(worst) {
 			syn = "every shot is synthetic,"
-		case n+unread == len(worst):
-			syn = strconv.Itoa(n) + " of " + strconv.Itoa(len(worst)) + " shots are synthetic and the other " + strconv.Itoa(unread) + " could not be read to tell,"
 		}
 	}
 	plot := func(rel string) template.HTML {
