@@ -167,7 +167,7 @@ def plot(path, name, t, row, c, fmt):
     ax1.set_xlim(row["o1_s"] * 1e6 - t1, row["o1_s"] * 1e6 + 3 * t1)
     ax1.set_title("front: T1 = %.3f us" % t1)
     ax2.set_title("Ut = %.1f kV, T2 = %.2f us" % (row["ut_v"] / 1e3, row["t2_s"] * 1e6))
-    ax2.legend(loc="upper right", fontsize=8)
+    ax2.legend(loc="upper right" if row["ut_v"] > 0 else "lower right", fontsize=8)  # clear of the tail
     fig.suptitle(name)
     fig.tight_layout()
     fig.savefig(path, format=fmt, dpi=100)
