@@ -24,9 +24,9 @@ the text of the standard:
  5. T1 = 1.67 (t90 - t30) on the test voltage curve, t30 and t90 where it last rises
     through 30 % and 90 % of Ut before its maximum (linear interpolation between samples);
     virtual origin O1 = t30 - 0.3 T1; T2 = t50 - O1, t50 where it first falls through 50 %
-    of Ut after its maximum.
+    of Ut after its maximum (the definitions from memory; the crossing rules are ours).
  6. Overshoot beta' = (Ue - Ub)/Ue, Ue the recorded curve's extreme, Ub the base curve's
-    maximum (closed form), in per cent.
+    maximum (closed form), in per cent (from memory).
 Full lightning impulses on one divider channel only; no chop, clipping or fault handling.
 
 Writes OUT/results.csv (one row per capture) and, with --plots png|svg, one matplotlib
