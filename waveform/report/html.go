@@ -319,18 +319,19 @@ func HTML(w io.Writer, p Page) error {
 		data["Record"], data["Measuring"] = r, strings.Join(ms, ", ")
 	}
 	data["Air"] = air(cfg)
-	data["Fired"] = "not known (no capture states it)"
+	fired := "not known (no capture states it)"
 	if a, b := s.FirstFired, s.LastFired; a != nil {
-		data["Fired"] = a.Format("2006-01-02 15:04")
+		fired = a.Format("2006-01-02 15:04")
 		switch {
 		case b.Sub(*a) < time.Minute:
 		case a.Format("2006-01-02") == b.Format("2006-01-02"):
-			data["Fired"] = data["Fired"].(string) + " to " + b.Format("15:04")
+			fired += " to " + b.Format("15:04")
 		default:
-			data["Fired"] = data["Fired"].(string) + " to " + b.Format("2006-01-02 15:04")
+			fired += " to " + b.Format("2006-01-02 15:04")
 		}
-		data["Fired"] = data["Fired"].(string) + " UTC (as the captures state it, else as their files were saved)"
+		fired += " UTC (as the captures state it, else as their files were saved)"
 	}
+	data["Fired"] = fired
 	return reportTmpl.Execute(w, data)
 }
 

@@ -173,56 +173,40 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	row.Warnings = append(row.Warnings, recordPlausible(rec)...)
 	dt, t0 := rec.Interval_s, rec.Start_s
 	switch cs.Role {
-	case Current, Field:
-		var c *Curves
-		if cs.Role == Current {
-			res, err := probe.MeasuredCurrent(ch.Samples, t0, dt)
-			if err != nil {
-				return fail(err)
+	case Current, Field, Coil, Antenna:
+		// every sensor gives a current or a field: reconstructed, or taken as recorded
+		var cur *probe.CurrentResult
+		var fld *probe.FieldResult
+		var err error
+		switch cs.Role {
+		case Current:
+			cur, err = probe.MeasuredCurrent(ch.Samples, t0, dt)
+		case Field:
+			fld, err = probe.MeasuredField(ch.Samples, t0, dt)
+		case Coil:
+			var m probe.Coil
+			if m, err = cs.Coil.Model(); err == nil {
+				cur, err = m.Current(ch.Samples, t0, dt)
 			}
-			src.cur, row.Polarity = res, polarityOf(res.Polarity)
-			row.Warnings = appendWarnings(row.Warnings, res.Warnings)
-			c = &Curves{Signal: res.Current, Quantity: "current", Unit: "A"}
-		} else {
-			res, err := probe.MeasuredField(ch.Samples, t0, dt)
-			if err != nil {
-				return fail(err)
+		case Antenna:
+			var m probe.Antenna
+			if m, err = cs.Antenna.Model(); err == nil {
+				fld, err = m.Field(ch.Samples, t0, dt)
 			}
-			src.fld, row.Polarity = res, polarityOf(res.Polarity)
-			c = &Curves{Signal: res.Field, Quantity: "field", Unit: "V/m"}
 		}
-		c.Start_s, c.Interval_s = t0, dt
-		row.Verdict = Measured
-		row.fill(src)
-		return row, c
-	case Coil, Antenna:
-		var c *Curves
-		if cs.Role == Coil {
-			m, err := cs.Coil.Model()
-			if err != nil {
-				return fail(err)
-			}
-			res, err := m.Current(ch.Samples, t0, dt)
-			if err != nil {
-				return fail(err)
-			}
-			src.cur, row.Polarity = res, polarityOf(res.Polarity)
-			row.Warnings = appendWarnings(row.Warnings, res.Warnings)
-			c = &Curves{Signal: res.Current, Quantity: "current", Unit: "A"}
-		} else {
-			m, err := cs.Antenna.Model()
-			if err != nil {
-				return fail(err)
-			}
-			res, err := m.Field(ch.Samples, t0, dt)
-			if err != nil {
-				return fail(err)
-			}
-			src.fld, row.Polarity, row.DroopEstimated = res, polarityOf(res.Polarity), res.TauEstimated
-			row.Warnings = appendWarnings(row.Warnings, res.Warnings)
-			c = &Curves{Signal: res.Field, Quantity: "field", Unit: "V/m"}
+		if err != nil {
+			return fail(err)
 		}
-		c.Start_s, c.Interval_s = t0, dt
+		c := &Curves{Start_s: t0, Interval_s: dt}
+		if cur != nil {
+			src.cur, row.Polarity = cur, polarityOf(cur.Polarity)
+			row.Warnings = appendWarnings(row.Warnings, cur.Warnings)
+			c.Signal, c.Quantity, c.Unit = cur.Current, "current", "A"
+		} else {
+			src.fld, row.Polarity, row.DroopEstimated = fld, polarityOf(fld.Polarity), fld.TauEstimated
+			row.Warnings = appendWarnings(row.Warnings, fld.Warnings)
+			c.Signal, c.Quantity, c.Unit = fld.Field, "field", "V/m"
+		}
 		row.Verdict = Measured
 		row.fill(src)
 		return row, c
