@@ -292,24 +292,11 @@ func currentParams(r *CurrentResult, t0, dt, driftScale float64) error {
 		return fmt.Errorf("%w: the current is zero throughout", ErrNoSignal)
 	}
 	r.PeakTime_s = t0 + float64(ip)*dt
-	at := func(i float64) float64 { return t0 + i*dt }
-	for _, p := range []*float64{&r.Rise_s, &r.Front_s, &r.Origin_s, &r.TimeToHalf_s} {
-		*p = math.NaN()
-	}
 	// Crossings on the magnitude: flip a negative current in place and back after.
 	if r.Polarity < 0 {
 		negate(cur)
 	}
-	t10 := waveform.LastCrossUp(cur, 0.1*r.Peak_a, 0, ip+1)
-	t90 := waveform.CrossUp(cur, 0.9*r.Peak_a, int(math.Max(0, t10)), ip+1)
-	if t10 >= 0 && t90 >= 0 {
-		r.Rise_s = (t90 - t10) * dt
-		r.Front_s = 1.25 * r.Rise_s
-		r.Origin_s = at(t10) - 0.1*r.Front_s
-		if t50 := waveform.CrossDown(cur, 0.5*r.Peak_a, ip, n); t50 >= 0 {
-			r.TimeToHalf_s = at(t50) - r.Origin_s
-		}
-	}
+	r.setTimes(cur, cur, r.Peak_a, ip, t0, dt)
 	if r.Polarity < 0 {
 		negate(cur)
 	}
@@ -610,24 +597,35 @@ func settleNoisy(r *CurrentResult, t0, dt, noise float64) {
 	if p, x, ok := crest(cur, lo, hi, float64(r.Polarity)); ok && x >= float64(lo) && x <= float64(hi) {
 		peak, at = p, x
 	}
-	t10 := waveform.LastCrossUp(s, 0.1*peak, 0, ip+1)
-	t90 := waveform.CrossUp(s, 0.9*peak, int(math.Max(0, t10)), ip+1)
-	if t10 < 0 || t90 < 0 {
-		return
+	tail := s
+	if w := int(r.TimeToHalf_s / dt / 40); w > rise && !math.IsNaN(r.TimeToHalf_s) {
+		tail = mag(waveform.MovingMean(cur, w))
 	}
-	rawT2 := r.TimeToHalf_s
-	r.Peak_a, r.PeakTime_s = peak, t0+at*dt
+	var settled CurrentResult
+	if settled.setTimes(s, tail, peak, ip, t0, dt) {
+		r.Peak_a, r.PeakTime_s = peak, t0+at*dt
+		r.Rise_s, r.Front_s, r.Origin_s, r.TimeToHalf_s = settled.Rise_s, settled.Front_s, settled.Origin_s, settled.TimeToHalf_s
+	}
+}
+
+// setTimes sets the IEC 62475 times of a current of magnitude peak at sample ip (from
+// memory: T1 = 1.25 (t90 - t10), O1 = t10 - 0.1 T1, T2 = t50 - O1), the front's crossings
+// read on front and the tail's on tail (both made positive); it reports whether the
+// front's were found. What is not found is NaN.
+func (r *CurrentResult) setTimes(front, tail []float64, peak float64, ip int, t0, dt float64) bool {
+	r.Rise_s, r.Front_s, r.Origin_s, r.TimeToHalf_s = math.NaN(), math.NaN(), math.NaN(), math.NaN()
+	t10 := waveform.LastCrossUp(front, 0.1*peak, 0, ip+1)
+	t90 := waveform.CrossUp(front, 0.9*peak, int(math.Max(0, t10)), ip+1)
+	if t10 < 0 || t90 < 0 {
+		return false
+	}
 	r.Rise_s = (t90 - t10) * dt
 	r.Front_s = 1.25 * r.Rise_s
 	r.Origin_s = t0 + t10*dt - 0.1*r.Front_s
-	tail := s
-	if w := int(rawT2 / dt / 40); w > rise && !math.IsNaN(rawT2) {
-		tail = mag(waveform.MovingMean(cur, w))
-	}
-	r.TimeToHalf_s = math.NaN()
 	if t50 := waveform.CrossDown(tail, 0.5*peak, ip, len(tail)); t50 >= 0 {
 		r.TimeToHalf_s = t0 + t50*dt - r.Origin_s
 	}
+	return true
 }
 
 // crest fits a parabola to sign*x[lo..hi] by least squares and returns its vertex.
