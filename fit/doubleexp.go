@@ -165,6 +165,10 @@ type Result struct {
 type Settings struct {
 	MaxIterations int     // default 200
 	RelTol        float64 // relative cost change that ends the search, default 1e-12
+	// BlockRMS leaves ResidualRMS as the block means give it when a long window was
+	// fitted on them (the noise averaged away), for a caller that measures the residual
+	// itself: it saves a pass over the raw window.
+	BlockRMS bool
 }
 
 // StartValues derives start parameters from the 30 %, 90 % (front) and 50 % (tail)
@@ -417,7 +421,7 @@ func Fit(y []float64, t0, dt float64, from, to int, start DoubleExp, s *Settings
 	res.Iterations = it
 	nb := to - from
 	res.ResidualRMS = math.Sqrt(cost / float64(nb))
-	if blk > 1 {
+	if blk > 1 && (s == nil || !s.BlockRMS) {
 		// The block means hide the noise: measure the residual on the raw samples.
 		res.ResidualRMS = math.Sqrt(passBlock(rawY, rawT0, rawDt, rawFrom, rawTo, p, 1, nil, nil) / float64(n))
 	}

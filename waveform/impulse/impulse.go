@@ -139,6 +139,21 @@ func (r *Result) at(idx float64) float64 { return r.Start_s + idx*r.Interval_s }
 // Evaluate evaluates the samples x of a divider channel (volts at the high-voltage
 // side) on the time base t0 + i dt.
 func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
+	return evaluate(x, t0, dt, s, nil)
+}
+
+// Reevaluate measures x again as prior measured a record like it (the same record with
+// other noise, for a Monte Carlo of its uncertainty): prior's pre-trigger length,
+// polarity, shape and kind of chop are kept, the base-curve fit starts from prior's,
+// and only the parameters are measured (Ut, Ue, Ub, beta', T1, T2, O1, the chop's and
+// the switching impulse's times, the fit's residual RMS), with no warnings, drift or
+// residual frequency. x may be a leading part of prior's record that holds every point
+// the parameters are read at; it is overwritten (it becomes the result's Recorded).
+func Reevaluate(x []float64, prior *Result, s Settings) (*Result, error) {
+	return evaluate(x, prior.Start_s, prior.Interval_s, s, prior)
+}
+
+func evaluate(x []float64, t0, dt float64, s Settings, prior *Result) (*Result, error) {
 	n := len(x)
 	r := &Result{Start_s: t0, Interval_s: dt}
 	for _, p := range []*float64{&r.Extreme_v, &r.TestVoltage_v, &r.BasePeak_v, &r.Overshoot_pct, &r.FrontTime_s,
@@ -149,7 +164,13 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	if n < waveform.MinSamples {
 		return nil, fmt.Errorf("%w: %d samples", ErrNoImpulse, n)
 	}
-	pre, diffNoise := waveform.Onset(x)
+	var pre int
+	var diffNoise float64
+	if prior != nil {
+		pre, diffNoise = min(prior.Baseline.Samples, n), 0
+	} else {
+		pre, diffNoise = waveform.Onset(x)
+	}
 	if pre < 16 {
 		r.warn("pretrigger-short", "only %d samples before the impulse: the baseline and noise estimates are weak", pre)
 	}
@@ -160,8 +181,15 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	r.Baseline = bl
 	r.Noise_v = bl.NoiseRMS
 	noise := math.Max(bl.NoiseRMS, diffNoise)
-	r.Polarity = frontPolarity(x, bl.Level, noise, s.PolarityRun)
-	y := make([]float64, n)
+	if prior != nil {
+		r.Polarity = prior.Polarity
+	} else {
+		r.Polarity = frontPolarity(x, bl.Level, noise, s.PolarityRun)
+	}
+	y := x // a re-evaluation's x is its own copy
+	if prior == nil {
+		y = make([]float64, n)
+	}
 	for i, v := range x {
 		y[i] = float64(r.Polarity) * (v - bl.Level)
 	}
@@ -170,7 +198,10 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	r.Extreme_v = ue
 	lo := 0.0
 	for _, v := range y {
-		lo = math.Min(lo, v)
+		if prior != nil {
+			break // only a warning rests on it
+		}
+		lo = min(lo, v)
 	}
 	if lo < -0.5*ue && ue > 0 {
 		r.warn("opposite-excursion", "the record swings to the opposite polarity by %.0f %% of the peak (an undershoot after a chop, or ringing): the polarity is the front's", -100*lo/ue)
@@ -188,8 +219,11 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		if v < tailMin {
 			tailMin = v
 		}
+		if prior != nil {
+			break // prior found the fall; a tail is never searched twice
+		}
 	}
-	if tailMin > 0.9*ue {
+	if tailMin > 0.9*ue && prior == nil {
 		return nil, fmt.Errorf("%w: the record never falls below 90 %% after its extreme (a step, or a record far too short)", ErrNoImpulse)
 	}
 	if bl.NoiseRMS > 0.02*ue {
@@ -203,7 +237,10 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	// Chop: a fall of ChopDrop x Ue within one front time.
 	w := int(math.Max(2, math.Round(frontSamples)))
 	chopAt := -1
-	for i := ip; i+w < n; i++ {
+	if prior != nil {
+		shape = prior.Shape
+	}
+	for i := ip; i+w < n && (prior == nil || shape == LightningChopped); i++ {
 		if y[i]-y[i+w] > s.ChopDrop*ue {
 			chopAt = i
 			break
@@ -212,10 +249,10 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	if chopAt < 0 && ip+w >= n && n-1 > ip && y[ip]-y[n-1] > s.ChopDrop*ue {
 		chopAt = ip
 	}
-	if chopAt >= 0 && shape == LightningFull {
+	if chopAt >= 0 && shape == LightningFull && prior == nil {
 		shape = LightningChopped
 	}
-	if s.ForceShape != "" {
+	if s.ForceShape != "" && prior == nil {
 		shape = s.ForceShape
 	}
 	r.Shape = shape
@@ -233,6 +270,9 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		k := max(2, w/4)
 		onset := int(math.Round((r.ChopInstant_s - t0) / dt))
 		r.FrontChopped = ip >= k && onset-ip <= k && y[ip]-y[ip-k] > 0.02*ue
+		if prior != nil {
+			r.FrontChopped = prior.FrontChopped
+		}
 	}
 	end := n
 	if shape == LightningChopped {
@@ -260,26 +300,32 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		r.warn("fit-window-cut", "the record ends before the tail falls to %.0f %%: the base curve is fitted up to the record's end", 100*s.FitTo)
 	}
 	r.FitFrom, r.FitTo = from, to
-	t50raw := waveform.CrossDown(y, 0.5*ue, ip, n)
 	abs := func(i float64) float64 {
 		if i < 0 {
 			return -1
 		}
 		return t0 + i*dt
 	}
-	start := fit.StartValues(abs(t30), abs(t90), abs(t50raw), ue)
 	var fr fit.Result
-	var ferr error
+	ferr := ErrFit
+	if prior != nil && prior.FitOK {
+		// a record that differs by noise has its minimum beside prior's
+		fr, ferr = fit.Fit(y, t0, dt, from, to, prior.Fit.Params, &fit.Settings{BlockRMS: true})
+	}
+	var start fit.DoubleExp
+	if ferr != nil {
+		start = fit.StartValues(abs(t30), abs(t90), abs(waveform.CrossDown(y, 0.5*ue, ip, n)), ue)
+	}
 	for _, k := range []float64{1, 0.5, 2, 0.25} {
+		if ferr == nil {
+			break
+		}
 		st := start
 		st.Tau2_s *= k
 		if st.Tau1_s < 3*st.Tau2_s {
 			st.Tau1_s = 3 * st.Tau2_s
 		}
 		fr, ferr = fit.Fit(y, t0, dt, from, to, st, nil)
-		if ferr == nil {
-			break
-		}
 	}
 	r.Fit = fr
 	r.FitOK = ferr == nil
@@ -300,10 +346,17 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 
 	// Residual, filtered, added back.
 	res := make([]float64, end)
+	var ss float64
 	for i := range res {
 		res[i] = y[i] - base[i]
+		if i >= from && i < to {
+			ss += res[i] * res[i]
+		}
 	}
-	if r.FitOK && to-from > 16 {
+	if prior != nil && r.FitOK && to > from {
+		r.Fit.ResidualRMS = math.Sqrt(ss / float64(to-from))
+	}
+	if r.FitOK && to-from > 16 && prior == nil {
 		// Ringing decays within microseconds; 8k samples from the fit start see it
 		// (resolution 1/(8192 dt), 122 kHz at 1 GS/s).
 		hi := min(to, end, from+8192)
@@ -320,7 +373,15 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 			waveform.ZeroPhaseLowPass(res, dt, tau)
 		}
 	} else {
-		waveform.ApplyTestVoltageFunction(res, dt)
+		if prior == nil {
+			waveform.ApplyTestVoltageFunction(res, dt)
+		} else {
+			// The parameters are read from the fit window on, where the filter's start
+			// has died away (e^-30) within 30 of its time constants; the recursive
+			// filter at every interval, as a spread needs it (ApplyTestVoltageFunctionRecursive).
+			lo := max(0, min(from, end-2)-int(30*waveform.TestVoltageTau_s/dt))
+			waveform.ApplyTestVoltageFunctionRecursive(res[lo:], dt)
+		}
 	}
 	// The test voltage curve takes the residual's place (NaN past a chop).
 	tv := res
@@ -372,7 +433,9 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 			r.warn("record-short", "the record ends before the tail falls to 50 %%: no time to half-value (record %.3g us after O1)", (abs(float64(n-1))-r.Origin_s)*1e6)
 		}
 	}
-	r.drift(tv, itv, pre, s)
+	if prior == nil {
+		r.drift(tv, itv, pre, s)
+	}
 	return r, nil
 }
 
@@ -530,4 +593,47 @@ func (r *Result) switching(tv []float64, itv int, a30, a90 float64, s Settings) 
 	if z := waveform.CrossDown(tv, 0, itv, n); z >= 0 {
 		r.TimeToZero_s = r.at(z) - origin
 	}
+}
+
+// Denoised is the record r was measured from with its noise taken out where the base
+// curve stands for it: the base curve, plus the fit's residual wherever the test
+// voltage curve shows it above the noise (ringing, a misfit, a chop's collapse), in the
+// record's own units (baseline and polarity put back). A Monte Carlo of the record's
+// noise centred here reads each parameter's sensitivity off the curve itself rather
+// than off one realisation of its noise: on a slow tail a crossing's local slope
+// differs from the curve's by the noise's own slope.
+func (r *Result) Denoised() []float64 {
+	n := len(r.Recorded)
+	out := make([]float64, n)
+	if !r.FitOK || len(r.Base) != n {
+		copy(out, r.Recorded)
+	} else {
+		// the test voltage curve's noise: its deviation from the base curve before the fit window
+		var ss float64
+		m := min(r.Baseline.Samples, r.FitFrom)
+		for i := 0; i < m; i++ {
+			d := r.TestVoltage[i] - r.Base[i]
+			ss += d * d
+		}
+		lim := 4 * math.Sqrt(ss/float64(max(m, 1)))
+		end := n // the residual kept up to here, past the last point it shows above the noise
+		for end > 0 && (math.IsNaN(r.TestVoltage[end-1]) || math.Abs(r.TestVoltage[end-1]-r.Base[end-1]) <= lim) {
+			end--
+		}
+		end = min(n, end+int(10*waveform.TestVoltageTau_s/r.Interval_s))
+		chop := n
+		if r.Shape == LightningChopped {
+			chop = int(math.Floor((r.ChopInstant_s - r.Start_s) / r.Interval_s))
+		}
+		for i := range out {
+			out[i] = r.Base[i]
+			if (i >= r.FitFrom && i < end) || i >= chop {
+				out[i] = r.Recorded[i]
+			}
+		}
+	}
+	for i := range out {
+		out[i] = float64(r.Polarity)*out[i] + r.Baseline.Level
+	}
+	return out
 }

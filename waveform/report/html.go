@@ -86,6 +86,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Air}}<dt>Atmosphere</dt><dd>{{.Air}}</dd>{{end}}
 <dt>Tolerances</dt><dd>{{.Tolerances}}</dd>
 <dt>Overshoot</dt><dd>relative to {{.Over}}</dd>
+<dt>Uncertainty</dt><dd>{{.Uncert}}</dd>
 <dt>Setup</dt><dd>{{if .SetupPath}}{{.SetupPath}}{{else}}none: every channel a divider channel in volts unless a role was given{{end}}</dd>
 {{if .Ratios}}<dt>Ratios</dt><dd>{{.Ratios}}</dd>{{end}}
 {{if .Command}}<dt>Command</dt><dd><code>{{range .Command}}<span class="arg">{{.}}</span> {{end}}</code></dd>{{end}}
@@ -193,8 +194,8 @@ func HTML(w io.Writer, p Page) error {
 			x.Cells = append(x.Cells, Cell(r, c))
 		}
 		for _, c := range shot.Columns {
-			if v, ok := r.Value(c); ok {
-				x.Params = append(x.Params, struct{ K, V string }{c.Label, strings.TrimSpace(c.Format(v) + " " + strings.ReplaceAll(c.Screen, "us", "µs"))})
+			if _, ok := r.Value(c); ok && c.Of == nil {
+				x.Params = append(x.Params, struct{ K, V string }{c.Label, ValueWithUncertainty(r, c)})
 			}
 		}
 		rows = append(rows, x)
@@ -319,6 +320,7 @@ func HTML(w io.Writer, p Page) error {
 		data["Record"], data["Measuring"] = r, strings.Join(ms, ", ")
 	}
 	data["Air"] = air(cfg)
+	data["Uncert"] = UncertaintyNote(cfg)
 	fired := "not known (no capture states it)"
 	if a, b := s.FirstFired, s.LastFired; a != nil {
 		fired = a.Format("2006-01-02 15:04")

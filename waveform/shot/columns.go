@@ -40,6 +40,7 @@ type Column struct {
 	Console int     // position in the per-shot tables on the console and in the report; 0: not there
 	Stat    string  // the series statistic's name; empty when the summary leaves it out
 	Param   string  // the measured parameter the value rests on, as failures and unmeasured name it
+	Of      *Column // an expanded uncertainty's parameter (uncertainty.go); nil for the parameters themselves
 
 	index  int
 	value  func(*sources) float64 // Number
@@ -53,7 +54,8 @@ type sources struct {
 	cur        *probe.CurrentResult
 	fld        *probe.FieldResult
 	efficiency float64
-	droop_s    float64 // a divider's droop constant from its description
+	droop_s    float64   // a divider's droop constant from its description
+	u95        []float64 // expanded uncertainties by column index (uncertainty.go); nil when not evaluated
 }
 
 // newSources has nothing to give: every number absent.
@@ -252,6 +254,7 @@ type Row struct {
 
 	values    []float64 // by column index; NaN when absent
 	untrusted []string  // parameters measured but not to be trusted, for the statistics
+	sys       []float64 // by column index: the relative standard uncertainty every shot shares (scale factor, time base)
 }
 
 // Value returns a Number column's value and whether it is present.

@@ -42,12 +42,14 @@ type Config struct {
 	// path, for the atmospheric correction (Atmosphere); nil when not described.
 	Air       *atmos.Conditions
 	AirPath_m float64
+	// Uncertainty sets the uncertainty per parameter (uncertainty.go).
+	Uncertainty Uncertainty
 }
 
 // NewConfig returns the defaults: IEC 60060-1:2010's tolerances, the settings of
 // docs/method.md, the standard shape of the family found.
 func NewConfig() *Config {
-	return &Config{Tolerances: impulse.DefaultTolerances(), Settings: impulse.DefaultSettings()}
+	return &Config{Tolerances: impulse.DefaultTolerances(), Settings: impulse.DefaultSettings(), Uncertainty: DefaultUncertainty()}
 }
 
 // FromSetup returns the configuration a parsed setup file describes.
@@ -81,6 +83,7 @@ func FromSetup(s *Setup) *Config {
 	none := func(...string) int { return 0 }
 	c.Record, _ = s.record(none) // both checked by ParseSetup
 	c.Air, c.AirPath_m, _ = s.air(none)
+	c.Uncertainty, _ = s.Uncertain.settings(s.Path, none)
 	return c
 }
 

@@ -163,7 +163,9 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	if cl, ok := waveform.DetectClipping(p.ch); ok && cs.Role != Divider {
 		row.Warnings = append(row.Warnings, Warning{"clipped", fmt.Sprintf("%d samples stuck at the channel's limit from sample %d: the reconstruction is not trustworthy", cl.Length, cl.Index)})
 	}
+	recorded, droop := ch.Samples, 0.0 // as the Monte Carlo of the uncertainty perturbs them
 	if cs.DroopTau.Set && cs.DroopTau.V > 0 {
+		recorded, droop = slices.Clone(ch.Samples), cs.DroopTau.V
 		waveform.UndoDroop(ch.Samples, rec.Interval_s, cs.DroopTau.V)
 		src.droop_s = cs.DroopTau.V
 	}
@@ -207,6 +209,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 			row.Warnings = appendWarnings(row.Warnings, fld.Warnings)
 			c.Signal, c.Quantity, c.Unit = fld.Field, "field", "V/m"
 		}
+		sensorUncertainty(&row, src, recorded, droop, t0, dt, cs, cfg)
 		row.Verdict = Measured
 		row.fill(src)
 		return row, c
@@ -285,6 +288,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		}
 		row.Warnings = append(row.Warnings, Warning{"not-measured", "compliance not shown: " + strings.Join(why, "; ")})
 	}
+	dividerUncertainty(&row, src, recorded, droop, r, cs, cfg)
 	row.fill(src)
 	return row, &Curves{Impulse: r, Nominal: nom, Tolerances: cfg.Tolerances}
 }

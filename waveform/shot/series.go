@@ -20,7 +20,14 @@ type Stat struct {
 	SD    float64 `json:"sd"` // sample standard deviation; 0 for a single value
 	Min   float64 `json:"min"`
 	Max   float64 `json:"max"`
-	col   *Column
+	// The series' type A evaluation (GUM 4.2; uncertainty.go, seriesUncertainty): the
+	// standard uncertainty of the mean, sd/sqrt n, and the expanded uncertainties of
+	// the mean and of one shot's value as a member of the series, each with what all
+	// shots share (scale factor, time base); absent for a single value.
+	UMean   *float64 `json:"u_mean,omitempty"`
+	U95Mean *float64 `json:"u95_mean,omitempty"`
+	U95Shot *float64 `json:"u95_shot,omitempty"`
+	col     *Column
 }
 
 // Column is the output column the statistic summarises (nil after decoding JSON).
@@ -90,6 +97,7 @@ type welford struct {
 	mean, m2 float64
 	min, max float64
 	started  bool
+	sys      welfordSys
 }
 
 func (w *welford) add(v float64) {
@@ -150,6 +158,7 @@ func (s *Series) add(sh *Shot) {
 					s.acc[k] = &welford{}
 				}
 				s.acc[k].add(v)
+				s.acc[k].sys.add(r, c)
 			}
 		}
 	}
@@ -188,6 +197,7 @@ func (s *Series) Summary() Summary {
 			if w.n > 1 {
 				st.SD = math.Sqrt(w.m2 / float64(w.n-1))
 			}
+			seriesUncertainty(&st, w.sys.mean())
 			out.Stats = append(out.Stats, st)
 		}
 	}

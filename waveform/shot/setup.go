@@ -82,6 +82,7 @@ type Setup struct {
 	Tolerance  ToleranceSetup   `toml:"tolerance"`
 	Method     MethodSetup      `toml:"method"`
 	Generator  GeneratorSetup   `toml:"generator"`
+	Uncertain  *UncertSetup     `toml:"uncertainty"`
 	Read       ReadSetup        `toml:"read"`
 	Channels   []ChannelSetup   `toml:"channel"`
 	Path       string           `toml:"-"` // where it was read from, for the report
@@ -137,6 +138,10 @@ type ChannelSetup struct {
 	Coil     *CoilSetup    `toml:"coil"`
 	Antenna  *AntennaSetup `toml:"antenna"`
 	line     int
+
+	// Uncertainty_pct is the channel's expanded uncertainty of its scale factor (k = 2),
+	// for a divider in place of the measuring system's.
+	Uncertainty_pct *float64 `toml:"expanded_uncertainty_pct"`
 }
 
 var reBareWord = regexp.MustCompile(`^expected value but found (".*") instead$`)
@@ -306,6 +311,9 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	if _, _, err := s.air(at); err != nil {
 		return nil, err
 	}
+	if _, err := s.Uncertain.settings(file, at); err != nil {
+		return nil, err
+	}
 	if s.Generator.Stages < 0 {
 		return nil, bad(at("generator", "stages"), "generator.stages", "must be positive")
 	}
@@ -344,6 +352,9 @@ func (c *ChannelSetup) Check() error {
 		return fmt.Errorf("ratio: a plain number (1000), not %s", c.Ratio.Unit)
 	}
 	if err := c.DroopTau.in("droop_tau", "s"); err != nil {
+		return err
+	}
+	if err := c.checkUncertainty(); err != nil {
 		return err
 	}
 	switch c.Role {
