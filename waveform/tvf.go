@@ -110,9 +110,10 @@ func ApplyTestVoltageFunction(x []float64, dt float64) {
 
 // ApplyTestVoltageFunctionRecursive is ApplyTestVoltageFunction's first-order
 // low-pass forward and backward at any sample interval: exact in the limit of fine
-// sampling, and at coarser intervals close to k(f) in the band where k is not small
-// (its power gain differs by about (2 pi f dt)^2/12 at f). For a Monte Carlo's spread,
-// which needs the filter's effect on noise more than its last digit.
+// sampling, and at 10 ns still within 1 % of k(f) up to 5 MHz (measured against
+// scipy.signal.freqz, TestRecursiveTVFAt10ns), for a Monte Carlo's spread, which needs
+// the filter's effect on noise more than its last digit, at a fraction of the cost of
+// the transforms.
 func ApplyTestVoltageFunctionRecursive(x []float64, dt float64) {
 	n := len(x)
 	if n < 2 {
