@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
+	"strings"
 	"syscall"
 	"testing"
 
@@ -13,6 +15,7 @@ import (
 	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/shot"
 	"github.com/hvshot/hvshot/waveform/synth"
+	"github.com/hvshot/hvshot/waveform/uncert"
 )
 
 // BenchmarkUncertainty100k is the uncertainty's cost for one 100,000-sample lightning
@@ -131,4 +134,189 @@ func TestCoverage95(t *testing.T) {
 			}
 		})
 	}
+}
+
+// Every number has its expanded uncertainty, declared once by the column table: its
+// key with _u95 before the unit, in the same unit, placed before the verdict.
+func TestEveryNumberHasItsCompanion(t *testing.T) {
+	var parents, companions int
+	for _, c := range shot.Columns {
+		if c.Kind != shot.Number {
+			continue
+		}
+		if c.Of != nil {
+			companions++
+			assert.Equal(t, c, c.Of.Companion())
+			continue
+		}
+		parents++
+		u := c.Companion()
+		require.NotNil(t, u, c.Key)
+		assert.Equal(t, c.Unit, u.Unit)
+		assert.Contains(t, u.Key, shot.U95Suffix, u.Key)
+		assert.Equal(t, c.Key, strings.Replace(u.Key, shot.U95Suffix, "", 1), "the key less _u95 is the parameter's")
+		assert.Less(t, slices.Index(shot.Columns, u), slices.Index(shot.Columns, shot.ColVerdict))
+	}
+	assert.Equal(t, parents, companions)
+	assert.GreaterOrEqual(t, parents, 29)
+}
+
+// invented: a 1.2/50 shot at 10 ns with 0.3 % noise and a coil channel
+func uncertainRecord(t *testing.T) *waveform.Record {
+	rec, err := synth.Generate(synth.Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, Noise: 0.003, PreTrigger_s: 10e-6,
+		Interval_s: 10e-9, Duration_s: 120e-6, Seed: 5,
+		Coil: &synth.Coil{M_h: 1e-9, L_h: 50e-9, R_ohm: 50, Peak_a: 2e3, Tau1_s: 20e-6, Tau2_s: 1e-6, Noise_v: 0.002}})
+	require.NoError(t, err)
+	return rec
+}
+
+const uncertainSetup = `
+[measuring_system]
+expanded_uncertainty_pct = %s
+[[channel]]
+match = "divider"
+role = "divider"
+[[channel]]
+match = "coil"
+role = "coil"
+%s
+[channel.coil]
+mutual = "1 nH"
+inductance = "50 nH"
+load_resistance = "50 ohm"
+`
+
+// The measuring system's scale factor acts on voltages, not on times (GUM 5.1.2 with a
+// sensitivity of the value itself); a channel's own acts on its currents.
+func TestScaleFactorActsOnAmplitudes(t *testing.T) {
+	rec := uncertainRecord(t)
+	eval := func(sys, coil string) (div, cur shot.Row) {
+		s, err := shot.ParseSetup([]byte(fmt.Sprintf(uncertainSetup, sys, coil)), "u.toml")
+		require.NoError(t, err)
+		rows := shot.Evaluate(rec, "u.csv", shot.FromSetup(s)).Rows
+		require.Len(t, rows, 2)
+		require.Equal(t, shot.Pass, rows[0].Verdict, rows[0].Error)
+		require.Equal(t, shot.Measured, rows[1].Verdict, rows[1].Error)
+		return rows[0], rows[1]
+	}
+	lo, loCur := eval("0.01", "")
+	hi, hiCur := eval("2", "expanded_uncertainty_pct = 10")
+	get := func(r shot.Row, c *shot.Column) (v, u float64) {
+		v, ok := r.Value(c)
+		require.True(t, ok, c.Key)
+		u, ok = r.Value(c.Companion())
+		require.True(t, ok, c.Key)
+		return v, u
+	}
+	ut, uLo := get(lo, shot.ColTestVoltage)
+	_, uHi := get(hi, shot.ColTestVoltage)
+	assert.GreaterOrEqual(t, uHi, 0.02*ut, "at least the scale factor's 2 %")
+	assert.InEpsilon(t, math.Hypot(0.02*ut, uLo), uHi, 0.05, "in quadrature with the record's part")
+	for _, c := range []*shot.Column{shot.ColFrontTime, shot.ColTimeToHalf} {
+		_, a := get(lo, c)
+		_, b := get(hi, c)
+		assert.Equal(t, a, b, "%s does not depend on the scale factor", c.Key)
+	}
+	pk, uc := get(hiCur, shot.ColPeakCurrent)
+	assert.GreaterOrEqual(t, uc, 0.1*pk, "the coil's own 10 %")
+	_, ucLo := get(loCur, shot.ColPeakCurrent)
+	assert.Less(t, ucLo, 0.01*pk, "the divider's figure is not the coil's")
+}
+
+func TestUncertaintyOff(t *testing.T) {
+	cfg := shot.NewConfig()
+	cfg.Uncertainty.Draws = 0
+	r := shot.Evaluate(uncertainRecord(t), "u.csv", cfg).Rows[0]
+	_, ok := r.Value(shot.ColTestVoltage)
+	require.True(t, ok)
+	_, ok = r.Value(shot.ColTestVoltage.Companion())
+	assert.False(t, ok)
+}
+
+func TestUncertaintySetup(t *testing.T) {
+	s, err := shot.ParseSetup([]byte("[uncertainty]\ndraws = 100\ntimebase_ppm = 5\nreading_samples = 0.25\n"), "u.toml")
+	require.NoError(t, err)
+	assert.Equal(t, shot.Uncertainty{Draws: 100, Timebase_ppm: 5, Reading_samples: 0.25}, shot.FromSetup(s).Uncertainty)
+	s, err = shot.ParseSetup([]byte("series = \"x\"\n"), "u.toml")
+	require.NoError(t, err)
+	assert.Equal(t, shot.DefaultUncertainty(), shot.FromSetup(s).Uncertainty)
+	for _, c := range []struct{ text, want string }{
+		{"[uncertainty]\ndraws = 1\n", "u.toml:2: uncertainty.draws: 1: 0 (no uncertainty) or from 2"},
+		{"[uncertainty]\ntimebase_ppm = -3\n", "u.toml:2: uncertainty.timebase_ppm"},
+		{"[uncertainty]\n\nreading_samples = 20\n", "u.toml:3: uncertainty.reading_samples"},
+		{"[uncertainty]\ndraw = 10\n", "did you mean draws?"},
+		{"[[channel]]\nmatch = \"d\"\nrole = \"divider\"\nexpanded_uncertainty_pct = 0\n", "expanded_uncertainty_pct: 0"},
+	} {
+		_, err := shot.ParseSetup([]byte(c.text), "u.toml")
+		require.Error(t, err, c.text)
+		assert.Contains(t, err.Error(), c.want)
+	}
+}
+
+// Half a sample for each instant read off the record covers what the sampling phase
+// does to the times: an invented 1.2/50 record with 5 % ringing at 1 MHz, sampled at
+// 10 ns in ten phases, without noise (docs/performance.md measured T1 moving by 0.13 %
+// over five phases).
+func TestReadingCoversTheSamplingPhase(t *testing.T) {
+	cfg := shot.NewConfig()
+	cfg.Uncertainty.Timebase_ppm = 0
+	var t1, t2 []float64
+	var u1, u2 float64
+	for k := 0; k < 10; k++ {
+		rec, err := synth.Generate(synth.Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, OscAmp: 0.05, OscFreq_hz: 1e6, OscDamp_s: 1e-6,
+			PreTrigger_s: 5e-6 + float64(k)*1e-9, Interval_s: 10e-9, Duration_s: 100e-6})
+		require.NoError(t, err)
+		r := shot.Evaluate(rec, "phase.csv", cfg).Rows[0]
+		require.NotEqual(t, shot.Error, r.Verdict, r.Error)
+		v1, _ := r.Value(shot.ColFrontTime)
+		v2, _ := r.Value(shot.ColTimeToHalf)
+		u1, _ = r.Value(shot.ColFrontTime.Companion())
+		u2, _ = r.Value(shot.ColTimeToHalf.Companion())
+		t1, t2 = append(t1, v1), append(t2, v2)
+	}
+	spread := func(x []float64) float64 { return slices.Max(x) - slices.Min(x) }
+	assert.Greater(t, spread(t1), 0.0, "the phase moves T1")
+	assert.LessOrEqual(t, spread(t1)/2, u1, "T1")
+	assert.LessOrEqual(t, spread(t2)/2, u2, "T2")
+	t.Logf("T1 %.5g us: phase range %.3g ns, U %.3g ns; T2 range %.3g ns, U %.3g ns", t1[0]*1e6, spread(t1)*1e9, u1*1e9, spread(t2)*1e9, u2*1e9)
+}
+
+// The series' type A evaluation (GUM 4.2): the mean known to sd/sqrt n, one shot to
+// sd, each with the shared scale factor added.
+func TestSeriesUncertainty(t *testing.T) {
+	s, err := shot.ParseSetup([]byte("[measuring_system]\nexpanded_uncertainty_pct = 2\n"), "u.toml")
+	require.NoError(t, err)
+	cfg := shot.FromSetup(s)
+	cfg.Uncertainty.Draws = 8
+	ser := shot.NewSeries("u")
+	for k := 0; k < 6; k++ {
+		rec, err := synth.Generate(synth.Spec{Front_s: (1.1 + 0.04*float64(k)) * 1e-6, Tail_s: 50e-6, Peak_v: (295 + 2*float64(k)) * 1e3, Noise: 0.002,
+			PreTrigger_s: 5e-6, Interval_s: 10e-9, Duration_s: 100e-6, Seed: uint64(k)})
+		require.NoError(t, err)
+		ser.Add(shot.Evaluate(rec, fmt.Sprintf("s%d.csv", k), cfg))
+	}
+	sum := ser.Summary()
+	found := 0
+	for _, st := range sum.Stats {
+		switch st.Key {
+		case shot.ColTestVoltage.Key, shot.ColFrontTime.Key:
+			found++
+			require.NotNil(t, st.UMean, st.Key)
+			assert.InDelta(t, st.SD/math.Sqrt(6), *st.UMean, 1e-12*st.SD)
+			shared := uncert.Rect(25e-6) * st.Mean // the time base, +-25 ppm
+			if st.Key == shot.ColTestVoltage.Key {
+				shared = 0.01 * st.Mean // 2 % at k = 2
+			}
+			// k = t(nu_eff) with the scatter's 5 degrees of freedom (GUM G.4.1)
+			for _, c := range []struct {
+				u   float64
+				got *float64
+			}{{st.SD / math.Sqrt(6), st.U95Mean}, {st.SD, st.U95Shot}} {
+				uc := math.Hypot(c.u, shared)
+				nu := math.Pow(uc/c.u, 4) * 5
+				assert.InEpsilon(t, uncert.CoverageFactor(nu)*uc, *c.got, 1e-9, st.Key)
+			}
+		}
+	}
+	assert.Equal(t, 2, found)
 }

@@ -14,9 +14,10 @@ var Coverage = 2*distuv.UnitNormal.CDF(2) - 1
 
 // CoverageFactor is k = t_p(nu) for the coverage probability p = Coverage and nu
 // degrees of freedom (GUM G.3.4, Table G.2: 2.00 for infinitely many, 2.09 for 30,
-// 2.28 for 10); nu <= 0 or infinite gives 2.
+// 2.28 for 10); nu <= 0 or beyond 1e7 gives 2 (t_p(1e7) is 2 within 3e-7, and the
+// quantile's numerics fail long before infinity).
 func CoverageFactor(nu float64) float64 {
-	if !(nu > 0) || math.IsInf(nu, 1) {
+	if !(nu > 0) || nu > 1e7 {
 		return 2
 	}
 	return distuv.StudentsT{Mu: 0, Sigma: 1, Nu: nu}.Quantile((1 + Coverage) / 2)

@@ -55,6 +55,9 @@ func TestCoverageFactor(t *testing.T) {
 		assert.InDelta(t, c.k, uncert.CoverageFactor(c.nu), 0.005, "GUM Table G.2, nu %g (from memory)", c.nu)
 	}
 	assert.Equal(t, 2.0, uncert.CoverageFactor(math.Inf(1)))
+	for _, nu := range []float64{1e6, 1e7, 1e9, 1e20} {
+		assert.InDelta(t, 2.0, uncert.CoverageFactor(nu), 1e-5, "nu %g: the normal limit", nu)
+	}
 	assert.Equal(t, 2.0, uncert.CoverageFactor(0), "no degrees of freedom stated: the type B convention")
 }
 
