@@ -87,10 +87,7 @@ func coverage(t *testing.T, cfg *shot.Config, truth *waveform.Record, n int, noi
 // noise, and coloured noise as a scope's band limit makes it (an AR(1) of 0.5: about
 // 20 MHz at 200 MS/s). docs/method.md gives these and the case that falls short.
 func TestCoverage95(t *testing.T) {
-	n := 400
-	if testing.Short() {
-		n = 200
-	}
+	const n = 400 // the binomial's sd at 95 %: 1.1 %
 	cols := []*shot.Column{shot.ColTestVoltage, shot.ColFrontTime, shot.ColTimeToHalf}
 	base := synth.Spec{Front_s: 1.2e-6, Tail_s: 50e-6, Peak_v: 300e3, PreTrigger_s: 10e-6, Interval_s: 10e-9, Duration_s: 110e-6}
 	for _, tc := range []struct {
@@ -103,6 +100,9 @@ func TestCoverage95(t *testing.T) {
 		{"AR(1) 0.5, 0.3 %, 5 ns", func(s synth.Spec) synth.Spec { s.Interval_s = 5e-9; return s }, 0.5, 0.003},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
+			if testing.Short() && tc.phi > 0 {
+				t.Skip("-short: the white-noise case only")
+			}
 			cfg := shot.NewConfig()
 			cfg.Uncertainty.Reading_samples, cfg.Uncertainty.Timebase_ppm = 0, 0
 			clean := tc.spec(base)
