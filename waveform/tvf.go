@@ -86,7 +86,19 @@ func ApplyTestVoltageFunction(x []float64, dt float64) {
 	a, b := x[0], x[n-1]
 	slope := (b - a) / float64(n-1)
 	if dt <= RecursiveTVFMaxInterval_s {
-		ApplyTestVoltageFunctionRecursive(x, dt)
+		// ZeroPhaseLowPass with the line's removal and return fused into its passes.
+		ka := math.Exp(-dt / TestVoltageTau_s)
+		kb := 1 - ka
+		y := 0.0 // x[0] less the line is 0
+		for i := range x {
+			y = ka*y + kb*(x[i]-(a+slope*float64(i)))
+			x[i] = y
+		}
+		y = x[n-1]
+		for i := n - 1; i >= 0; i-- {
+			y = ka*y + kb*x[i]
+			x[i] = y + a + slope*float64(i)
+		}
 		return
 	}
 	m := SmoothLen(2 * n)
@@ -121,16 +133,37 @@ func ApplyTestVoltageFunctionRecursive(x []float64, dt float64) {
 	}
 	a, b := x[0], x[n-1]
 	slope := (b - a) / float64(n-1)
-	// ZeroPhaseLowPass with the line's removal and return fused into its passes.
 	ka := math.Exp(-dt / TestVoltageTau_s)
 	kb := 1 - ka
+	k2 := ka * ka
+	// Two samples a step: y[i+1] = ka^2 y[i-1] + ka kb u[i] + kb u[i+1] carries the
+	// recursion's dependency over two samples at once, so the loop runs at about twice
+	// the speed of the one-sample form; the same filter to rounding.
 	y := 0.0 // x[0] less the line is 0
-	for i := range x {
+	x[0] = 0
+	i := 1
+	for ; i+1 < n; i += 2 {
+		u0 := kb * (x[i] - (a + slope*float64(i)))
+		u1 := kb * (x[i+1] - (a + slope*float64(i+1)))
+		x[i] = ka*y + u0
+		y = k2*y + (ka*u0 + u1)
+		x[i+1] = y
+	}
+	for ; i < n; i++ {
 		y = ka*y + kb*(x[i]-(a+slope*float64(i)))
 		x[i] = y
 	}
 	y = x[n-1]
-	for i := n - 1; i >= 0; i-- {
+	i = n - 1
+	for ; i-1 >= 0; i -= 2 {
+		u0 := kb * x[i]
+		u1 := kb * x[i-1]
+		v0 := ka*y + u0
+		y = k2*y + (ka*u0 + u1)
+		x[i] = v0 + a + slope*float64(i)
+		x[i-1] = y + a + slope*float64(i-1)
+	}
+	for ; i >= 0; i-- {
 		y = ka*y + kb*x[i]
 		x[i] = y + a + slope*float64(i)
 	}

@@ -139,7 +139,7 @@ func (r *Result) at(idx float64) float64 { return r.Start_s + idx*r.Interval_s }
 // Evaluate evaluates the samples x of a divider channel (volts at the high-voltage
 // side) on the time base t0 + i dt.
 func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
-	return evaluate(x, t0, dt, s, nil)
+	return evaluate(x, t0, dt, s, nil, nil)
 }
 
 // Reevaluate measures x again as prior measured a record like it (the same record with
@@ -150,10 +150,28 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 // residual frequency. x may be a leading part of prior's record that holds every point
 // the parameters are read at; it is overwritten (it becomes the result's Recorded).
 func Reevaluate(x []float64, prior *Result, s Settings) (*Result, error) {
-	return evaluate(x, prior.Start_s, prior.Interval_s, s, prior)
+	return evaluate(x, prior.Start_s, prior.Interval_s, s, prior, nil)
 }
 
-func evaluate(x []float64, t0, dt float64, s Settings, prior *Result) (*Result, error) {
+// Work keeps a re-evaluation's curves from one call to the next, so that a Monte
+// Carlo's many draws do not allocate (and clear) them anew.
+type Work struct{ base, res []float64 }
+
+// Reevaluate is the package's Reevaluate on w's buffers: the result's Base and
+// TestVoltage are w's until its next call.
+func (w *Work) Reevaluate(x []float64, prior *Result, s Settings) (*Result, error) {
+	return evaluate(x, prior.Start_s, prior.Interval_s, s, prior, w)
+}
+
+// buf is a slice of n from *b, its old contents left: the caller overwrites all of it.
+func (w *Work) buf(b *[]float64, n int) []float64 {
+	if cap(*b) < n {
+		*b = make([]float64, n)
+	}
+	return (*b)[:n]
+}
+
+func evaluate(x []float64, t0, dt float64, s Settings, prior *Result, work *Work) (*Result, error) {
 	n := len(x)
 	r := &Result{Start_s: t0, Interval_s: dt}
 	for _, p := range []*float64{&r.Extreme_v, &r.TestVoltage_v, &r.BasePeak_v, &r.Overshoot_pct, &r.FrontTime_s,
@@ -310,7 +328,9 @@ func evaluate(x []float64, t0, dt float64, s Settings, prior *Result) (*Result, 
 	ferr := ErrFit
 	if prior != nil && prior.FitOK {
 		// a record that differs by noise has its minimum beside prior's
-		fr, ferr = fit.Fit(y, t0, dt, from, to, prior.Fit.Params, &fit.Settings{BlockRMS: true})
+		// to a relative 1e-9 in the cost: Gauss-Newton's second step from beside the
+		// minimum, the parameters then off by far less than noise moves them
+		fr, ferr = fit.Fit(y, t0, dt, from, to, prior.Fit.Params, &fit.Settings{BlockRMS: true, RelTol: 1e-9})
 	}
 	var start fit.DoubleExp
 	if ferr != nil {
@@ -329,7 +349,12 @@ func evaluate(x []float64, t0, dt float64, s Settings, prior *Result) (*Result, 
 	}
 	r.Fit = fr
 	r.FitOK = ferr == nil
-	base := make([]float64, n)
+	var base []float64
+	if work != nil {
+		base = work.buf(&work.base, n)
+	} else {
+		base = make([]float64, n)
+	}
 	if r.FitOK {
 		fr.Params.Eval(t0, dt, base)
 		r.BasePeak_v = fr.Params.Peak()
@@ -345,7 +370,12 @@ func evaluate(x []float64, t0, dt float64, s Settings, prior *Result) (*Result, 
 	r.Base = base
 
 	// Residual, filtered, added back.
-	res := make([]float64, end)
+	var res []float64
+	if work != nil {
+		res = work.buf(&work.res, end)
+	} else {
+		res = make([]float64, end)
+	}
 	var ss float64
 	for i := range res {
 		res[i] = y[i] - base[i]

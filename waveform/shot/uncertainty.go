@@ -268,15 +268,32 @@ func values(nums []*Column, src *sources, out []float64) {
 }
 
 // truncation is how much of a divider's record its parameters need, when less than
-// the whole: every point a full lightning impulse's parameters are read at lies
-// before the later of the 50 % point and the fit window's end, and the test voltage
-// function's filter reaches back from beyond there by e^-30 at most.
-func truncation(r *impulse.Result, n int) int {
-	if r.Shape != impulse.LightningFull || math.IsNaN(r.T50_s) {
+// the whole: every point a full impulse's parameters are read at lies before the
+// latest of its 50 % point, its fit window's end and (switching) the ends of its time
+// above 90 % and of its time to zero, and the zero-phase filter on the residual (the
+// test voltage function, or a switching impulse's smoothing over a tenth of T_AB)
+// reaches back from beyond there by e^-30 at most. A chopped impulse, or one whose
+// 50 % point the record lacks, needs it all.
+func truncation(r *impulse.Result, n int, s impulse.Settings) int {
+	if r.Shape == impulse.LightningChopped || math.IsNaN(r.T50_s) {
 		return n
 	}
-	last := math.Max((r.T50_s-r.Start_s)/r.Interval_s, float64(r.FitTo))
-	k := int(math.Ceil(last + 30*waveform.TestVoltageTau_s/r.Interval_s))
+	idx := func(t float64) float64 { return (t - r.Start_s) / r.Interval_s }
+	last := math.Max(idx(r.T50_s), float64(r.FitTo))
+	tau := waveform.TestVoltageTau_s
+	if r.Shape == impulse.Switching {
+		if math.IsNaN(r.TimeAbove90_s) {
+			return n
+		}
+		last = math.Max(last, idx(r.T90_s+r.TimeAbove90_s))
+		if !math.IsNaN(r.TimeToZero_s) {
+			last = math.Max(last, idx(r.Origin_s+r.TimeToZero_s))
+		}
+		// the smoothing's constant comes from the recorded curve's 30-90 % time, which
+		// noise moves: half again as long, to be safe
+		tau = 1.5 * s.SwitchingSmooth * (r.T90_s - r.T30_s)
+	}
+	k := int(math.Ceil(last + 30*tau/r.Interval_s))
 	return min(max(k, 0), n)
 }
 
@@ -356,11 +373,12 @@ func measureUncertainty(row *Row, src *sources, samples, centre []float64, pre i
 // remeasureImpulse is a divider's evaluation for the Monte Carlo: its droop undone in
 // place, r's decisions kept (impulse.Reevaluate).
 func remeasureImpulse(r *impulse.Result, droop_s float64, cfg *Config) func(x []float64) (*sources, error) {
+	var w impulse.Work
 	return func(x []float64) (*sources, error) {
 		if droop_s > 0 {
 			waveform.UndoDroop(x, r.Interval_s, droop_s)
 		}
-		q, err := impulse.Reevaluate(x, r, cfg.Settings)
+		q, err := w.Reevaluate(x, r, cfg.Settings)
 		if err != nil {
 			return nil, err
 		}
@@ -386,17 +404,20 @@ func dividerUncertainty(row *Row, src *sources, samples []float64, droop_s float
 	if droop_s == 0 {
 		centre = r.Denoised()
 	}
-	n := truncation(r, len(samples))
+	n := truncation(r, len(samples), cfg.Settings)
 	if n < len(samples) {
-		// the part must measure as the whole does, or the whole is used
-		re := remeasureImpulse(r, droop_s, cfg)
-		q, err1 := re(slices.Clone(centre[:n]))
-		w, err2 := re(slices.Clone(centre))
+		// the part must measure as the whole does, every parameter, or the whole is used
+		nums := numbers()
+		a, b := make([]float64, len(nums)), make([]float64, len(nums))
+		q, err1 := remeasureImpulse(r, droop_s, cfg)(slices.Clone(centre[:n]))
+		w, err2 := remeasureImpulse(r, droop_s, cfg)(slices.Clone(centre))
 		same := err1 == nil && err2 == nil
-		for k := 0; same && k < 4; k++ {
-			a := [4]float64{q.imp.TestVoltage_v, q.imp.FrontTime_s, q.imp.TimeToHalf_s, q.imp.BasePeak_v}[k]
-			b := [4]float64{w.imp.TestVoltage_v, w.imp.FrontTime_s, w.imp.TimeToHalf_s, w.imp.BasePeak_v}[k]
-			same = math.Abs(a-b) <= 1e-9*math.Abs(b)
+		if same {
+			values(nums, q, a)
+			values(nums, w, b)
+		}
+		for k := 0; same && k < len(nums); k++ {
+			same = math.IsNaN(a[k]) && math.IsNaN(b[k]) || math.Abs(a[k]-b[k]) <= 1e-9*math.Abs(b[k])
 		}
 		if !same {
 			n = len(samples)

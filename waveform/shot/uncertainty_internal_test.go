@@ -1,0 +1,71 @@
+package shot
+
+import (
+	"math"
+	"math/rand/v2"
+	"slices"
+	"testing"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"github.com/hvshot/hvshot/fit"
+	"github.com/hvshot/hvshot/waveform/impulse"
+)
+
+// The Monte Carlo of a full impulse runs on the leading part of the record its
+// parameters need: there, every parameter is the whole record's to 1e-9 (invented
+// records with 0.2 % noise: 1.2/50 at 2 ns, 250/2500 at 100 ns).
+func TestTruncationMeasuresTheSame(t *testing.T) {
+	for _, c := range []struct {
+		name           string
+		front, tail    float64
+		switching      bool
+		dt, pre, total float64
+		most           float64 // the part is at most this fraction of the record
+	}{
+		{"lightning", 1.2e-6, 50e-6, false, 2e-9, 5e-6, 200e-6, 0.5},
+		{"switching", 250e-6, 2500e-6, true, 100e-9, 200e-6, 10e-3, 0.6},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			var p fit.DoubleExp
+			var err error
+			if c.switching {
+				p, err = fit.ForSwitching(c.front, c.tail)
+			} else {
+				p, err = fit.ForLightning(c.front, c.tail)
+			}
+			require.NoError(t, err)
+			p.U = 300e3 / p.PeakFactor()
+			p.Td_s = c.pre
+			rng := rand.New(rand.NewPCG(1, 2))
+			x := make([]float64, int(c.total/c.dt))
+			p.Eval(0, c.dt, x)
+			for i := range x {
+				x[i] += 600 * rng.NormFloat64()
+			}
+			s := impulse.DefaultSettings()
+			r, err := impulse.Evaluate(x, 0, c.dt, s)
+			require.NoError(t, err)
+			n := truncation(r, len(x), s)
+			assert.Less(t, float64(n), c.most*float64(len(x)))
+			centre := r.Denoised()
+			nums := numbers()
+			a, b := make([]float64, len(nums)), make([]float64, len(nums))
+			q, err := remeasureImpulse(r, 0, NewConfig())(append([]float64(nil), centre[:n]...))
+			require.NoError(t, err)
+			w, err := remeasureImpulse(r, 0, NewConfig())(append([]float64(nil), centre...))
+			require.NoError(t, err)
+			values(nums, q, a)
+			values(nums, w, b)
+			for k, col := range nums {
+				if math.IsNaN(b[k]) {
+					assert.True(t, math.IsNaN(a[k]), col.Key)
+					continue
+				}
+				assert.InDelta(t, b[k], a[k], 1e-9*math.Abs(b[k]), col.Key)
+			}
+			assert.False(t, math.IsNaN(b[slices.Index(nums, ColTimeToHalf)]))
+		})
+	}
+}
