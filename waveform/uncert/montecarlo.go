@@ -31,10 +31,7 @@ func MonteCarlo(x []float64, nz Noise, draws int, seed uint64, nOut int, eval Ev
 	xp := make([]float64, len(x))
 	rng := rand.New(rand.NewPCG(seed, 0x75_6e_63_65_72_74))
 	for d := 0; d < draws; d++ {
-		nz.Draw(rng, xp)
-		for i, v := range x {
-			xp[i] += v
-		}
+		nz.addTo(rng, x, xp)
 		for i := range out {
 			out[i] = math.NaN()
 		}
@@ -64,33 +61,46 @@ func MonteCarlo(x []float64, nz Noise, draws int, seed uint64, nOut int, eval Ev
 // Draw fills e with one realisation of the noise. The process starts in its stationary
 // state, so the record's first samples are as noisy as its last.
 func (nz Noise) Draw(rng *rand.Rand, e []float64) {
+	clear(e)
+	nz.addTo(rng, e, e)
+}
+
+// addTo writes x plus one realisation of the noise into out (x and out may be the
+// same), in one pass.
+func (nz Noise) addTo(rng *rand.Rand, x, out []float64) {
 	pool := nz.pool
-	if len(pool) == 0 || len(e) == 0 {
-		clear(e)
+	n := min(len(x), len(out))
+	if len(pool) == 0 {
+		copy(out, x[:n])
 		return
 	}
 	m := uint64(len(pool))
 	// two indices from each 64 random bits (Lemire's multiply-shift reduction)
-	i := 0
-	for ; i+1 < len(e); i += 2 {
-		u := rng.Uint64()
-		e[i] = pool[((u&0xffffffff)*m)>>32]
-		e[i+1] = pool[((u>>32)*m)>>32]
-	}
-	if i < len(e) {
-		e[i] = pool[((rng.Uint64()>>32)*m)>>32]
-	}
 	if nz.Phi == 0 {
-		for i := range e {
-			e[i] *= nz.RMS
+		i := 0
+		for ; i+1 < n; i += 2 {
+			u := rng.Uint64()
+			out[i] = x[i] + pool[((u&0xffffffff)*m)>>32]
+			out[i+1] = x[i+1] + pool[((u>>32)*m)>>32]
+		}
+		if i < n {
+			out[i] = x[i] + pool[((rng.Uint64()>>32)*m)>>32]
 		}
 		return
 	}
-	g := nz.RMS * math.Sqrt(1-nz.Phi*nz.Phi)
-	prev := nz.RMS * e[0]
-	e[0] = prev
-	for i := 1; i < len(e); i++ {
-		prev = nz.Phi*prev + g*e[i]
-		e[i] = prev
+	// the first sample from the stationary law: an innovation over sqrt(1 - Phi^2)
+	prev := pool[((rng.Uint64()>>32)*m)>>32] / math.Sqrt(1-nz.Phi*nz.Phi)
+	out[0] = x[0] + prev
+	i := 1
+	for ; i+1 < n; i += 2 {
+		u := rng.Uint64()
+		prev = nz.Phi*prev + pool[((u&0xffffffff)*m)>>32]
+		out[i] = x[i] + prev
+		prev = nz.Phi*prev + pool[((u>>32)*m)>>32]
+		out[i+1] = x[i+1] + prev
+	}
+	if i < n {
+		prev = nz.Phi*prev + pool[((rng.Uint64()>>32)*m)>>32]
+		out[i] = x[i] + prev
 	}
 }

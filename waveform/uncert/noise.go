@@ -23,7 +23,7 @@ type Noise struct {
 	// "gaussian" or "quantisation" (uniform over one step).
 	Law     string
 	Samples int       // the pre-trigger samples the model was estimated from
-	pool    []float64 // innovations with mean 0 and variance 1
+	pool    []float64 // innovations in the record's unit: variance RMS^2 (1 - Phi^2)
 }
 
 // DOF is the degrees of freedom of the noise's low-frequency level as estimated: what
@@ -75,7 +75,7 @@ func NoiseOf(pre []float64, quantum float64) Noise {
 	if q2 := quantum * quantum / 12; nz.RMS*nz.RMS < q2 {
 		nz.RMS, nz.Phi, nz.Law = math.Sqrt(q2), 0, "quantisation"
 		nz.pool = uniformPool()
-		return nz
+		return nz.scale()
 	}
 	if n-1 >= MinPool {
 		w := make([]float64, n-1)
@@ -84,10 +84,19 @@ func NoiseOf(pre []float64, quantum float64) Noise {
 		}
 		if standardise(w) {
 			nz.pool, nz.Law = w, "pre-trigger"
-			return nz
+			return nz.scale()
 		}
 	}
 	nz.pool = gaussPool()
+	return nz.scale()
+}
+
+// scale puts the standardised pool into the record's unit, once for all draws.
+func (nz Noise) scale() Noise {
+	g := nz.RMS * math.Sqrt(1-nz.Phi*nz.Phi)
+	for i := range nz.pool {
+		nz.pool[i] *= g
+	}
 	return nz
 }
 
