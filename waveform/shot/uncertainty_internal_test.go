@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"slices"
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/assert"
@@ -67,5 +68,19 @@ func TestTruncationMeasuresTheSame(t *testing.T) {
 			}
 			assert.False(t, math.IsNaN(b[slices.Index(nums, ColTimeToHalf)]))
 		})
+	}
+}
+
+// Every number says how its uncertainty arises (uRules), and its key ends in its unit,
+// so that its companion's key does too.
+func TestEveryNumberHasItsRule(t *testing.T) {
+	for _, c := range Columns {
+		if c.Kind != Number || c.Of != nil {
+			continue
+		}
+		_, ok := uRules[c.Key]
+		assert.True(t, ok, "%s: add its rule to uRules (uncertainty.go)", c.Key)
+		suf, ok := unitSuffix[c.Unit]
+		assert.True(t, ok && strings.HasSuffix(c.Key, suf), "%s: a key ending in its unit %q", c.Key, c.Unit)
 	}
 }
