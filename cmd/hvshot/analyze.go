@@ -146,7 +146,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if watch {
 		return watchDir(ctx, inputs[0], w, o, e)
 	}
-	series := shot.NewSeries(cfg.Series)
+	series := shot.NewSeries(cfg.Series).Judging(cfg)
 	var rows []shot.Row
 	var traces []shot.Trace
 	lost := false // a plot that could not be written: a warning on its row, and exit 2

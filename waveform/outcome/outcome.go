@@ -1,6 +1,7 @@
 package outcome
 
 import (
+	"encoding/json"
 	"fmt"
 	"math"
 	"sort"
@@ -221,4 +222,25 @@ func levelTol(l, step float64) float64 {
 		return step / 4
 	}
 	return 0.01 * math.Abs(l)
+}
+
+// MarshalJSON writes the figures that do not apply (NaN) as absent: JSON has no NaN.
+func (r Result) MarshalJSON() ([]byte, error) {
+	num := func(v float64) *float64 {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil
+		}
+		return &v
+	}
+	type plain Result // without this method
+	return json.Marshal(struct {
+		plain
+		U50_v        *float64 `json:"u50_v,omitempty"`
+		U50StdErr_v  *float64 `json:"u50_std_err_v,omitempty"`
+		Sigma_v      *float64 `json:"sigma_v,omitempty"`
+		Z_pct        *float64 `json:"z_pct,omitempty"`
+		U10_v        *float64 `json:"u10_v,omitempty"`
+		Step_v       *float64 `json:"step_v,omitempty"`
+		DixonMoodFit *float64 `json:"dixon_mood_ratio,omitempty"`
+	}{plain(r), num(r.U50_v), num(r.U50StdErr_v), num(r.Sigma_v), num(r.Z_pct), num(r.U10_v), num(r.Step_v), num(r.DixonMoodFit)})
 }
