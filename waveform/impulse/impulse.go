@@ -110,10 +110,10 @@ type Result struct {
 	ChopInstant_s float64
 	// FrontChopped: chopped on the front, judged by its own quantities (time to
 	// chopping, voltage at chopping, steepness), not by a full impulse's T1 and overshoot.
-	FrontChopped      bool
+	FrontChopped bool
 	// Collapse is where the voltage collapsed, whatever the shape (a chopped impulse's
 	// chop, or a disruptive discharge during a switching impulse); "" when it did not.
-	Collapse Collapse
+	Collapse          Collapse
 	Steepness_v_per_s float64 // front-chopped: the voltage at chopping over the time to chopping (from memory)
 	// DriftUt_pct, DriftT2_pct: how far the baseline's trend moves Ut and T2, in percent,
 	// when it reaches DriftMax of Ue at the 50 % point; NaN otherwise.

@@ -249,19 +249,19 @@ type Row struct {
 	Shape          impulse.Shape
 	Polarity       Polarity
 	DroopEstimated bool
-	Synthetic      bool      // the capture says it is synthetic: a rehearsal, not a test record
+	Synthetic      bool // the capture says it is synthetic: a rehearsal, not a test record
 	// In a test (Config.Test), a divider row's disruptive discharge: where it was seen
 	// (front, crest, tail), "marked" by hand, or "none"; whether the record or the setup
 	// says so; and whether the shot counts as an application of the test.
 	Discharge, DischargeSource string
 	Application                string // "counted", or "not counted: " and why
 	Counted                    bool
-	Fired          time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
-	Verdict        Verdict
-	Failures       []impulse.Failure
-	Unmeasured     []string // parameters the verdict needs that could not be measured
-	Warnings       []Warning
-	Error          string
+	Fired                      time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
+	Verdict                    Verdict
+	Failures                   []impulse.Failure
+	Unmeasured                 []string // parameters the verdict needs that could not be measured
+	Warnings                   []Warning
+	Error                      string
 	// Plot is the row's plot file relative to the output folder, set by whoever drew
 	// it; not an output key.
 	Plot string

@@ -201,7 +201,7 @@ type TestOutcome struct {
 // atmosphere (U50 / Kt, Kt computed with U_B = U50) when the air is described.
 type PolarityResult struct {
 	outcome.Result
-	U50Standard_v float64            `json:"u50_standard_v,omitempty"`
+	U50Standard_v float64           `json:"u50_standard_v,omitempty"`
 	Correction    *atmos.Correction `json:"u50_correction,omitempty"`
 }
 
