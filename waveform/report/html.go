@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/base64"
+	"fmt"
 	"html/template"
 	"io"
 	"sort"
@@ -12,6 +13,7 @@ import (
 
 	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/outcome"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -76,7 +78,8 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Synthetic}}<p class="synthetic" id="synthetic">SYNTHETIC DATA: {{.Synthetic}} made by hvshot's synthesiser or demo, not measured. This is a rehearsal, not a test record.</p>{{end}}
 <dl class="facts" id="facts">
 <dt>Outcome</dt><dd class="{{.OutcomeClass}}">{{.Outcome}}</dd>
-{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
+{{with .Test}}<dt>Test outcome</dt><dd id="test-outcome"><span class="{{$.TestClass}}">{{index . 0}}</span>{{range slice . 1}}<br>{{.}}{{end}}</dd>
+{{end}}{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
 <dt>Laboratory</dt><dd>{{or .Laboratory "not stated"}}</dd>
 <dt>Operator</dt><dd>{{or .Operator "not stated"}}</dd>
 <dt>Measuring system</dt><dd>{{$.Measuring}}</dd>
@@ -301,6 +304,7 @@ func HTML(w io.Writer, p Page) error {
 		"When": p.Made.Format("2006-01-02 15:04 MST"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": s.Command, "Ratios": ratios(cfg),
+		"Test": TestLines(s.Test), "TestClass": testClass(s.Test),
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path
@@ -353,8 +357,34 @@ func ratios(cfg *shot.Config) string {
 	return strings.Join(out, "; ")
 }
 
+// testClass is the colour of a test's headline: its worst polarity's verdict.
+func testClass(t *shot.TestOutcome) string {
+	if t == nil {
+		return ""
+	}
+	class := "pass"
+	for _, r := range t.Results {
+		switch r.Verdict {
+		case outcome.Failed:
+			return "fail"
+		case outcome.NotDecided:
+			class = "incomplete"
+		case outcome.Determined:
+			if class == "pass" {
+				class = ""
+			}
+		}
+	}
+	return class
+}
+
 // air states the series' atmospheric correction with every factor, for the header.
 func air(cfg *shot.Config) string {
+	if cfg.Air != nil && cfg.Test != nil && !cfg.Test.Procedure.Withstand() {
+		c := *cfg.Air
+		return fmt.Sprintf("%.1f kPa, %.1f °C, discharge path %.2f m: the U50 found is corrected to the standard atmosphere with Kt computed at U_B = U50 (Test outcome)",
+			c.Pressure_pa/1e3, c.Temperature_c, cfg.AirPath_m)
+	}
 	corr, err := cfg.Atmosphere()
 	switch {
 	case err != nil:
