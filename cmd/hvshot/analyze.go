@@ -207,7 +207,7 @@ func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
 
 func exitStatus(s shot.Summary) int {
 	switch {
-	case s.Test.Failed():
+	case s.TestFailed():
 		return exitTestFailed
 	case s.Errors > 0:
 		return exitFileErrors

@@ -58,7 +58,7 @@ func TestWithstandProcedureB(t *testing.T) {
 			for _, m := range c.marked {
 				marks += fmt.Sprintf("%q, ", name(m))
 			}
-			setup := "series = \"invented: procedure B check\"\n[nominal]\nshape = \"1.2/50\"\ntest_voltage = \"300 kV\"\n[test]\nprocedure = \"B\"\ndischarged = [" + marks + "\"shot99\"]\n"
+			setup := "series = \"invented: procedure B check\"\n[nominal]\nshape = \"1.2/50\"\ntest_voltage = \"300 kV\"\n[[test]]\nprocedure = \"B\"\ndischarged = [" + marks + "\"shot99\"]\n"
 			require.NoError(t, os.WriteFile(filepath.Join(caps, shot.SetupFileName), []byte(setup), 0o644))
 			out := filepath.Join(dir, "out")
 			code, stdout, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--out", out, caps)
@@ -69,7 +69,7 @@ func TestWithstandProcedureB(t *testing.T) {
 			b, err := os.ReadFile(filepath.Join(out, "summary.json"))
 			require.NoError(t, err)
 			var sum struct {
-				Test struct {
+				Tests []struct {
 					NotCounted int `json:"not_counted"`
 					Results    []struct {
 						Verdict    string
@@ -79,12 +79,13 @@ func TestWithstandProcedureB(t *testing.T) {
 				}
 			}
 			require.NoError(t, json.Unmarshal(b, &sum))
-			require.Len(t, sum.Test.Results, 1)
-			r := sum.Test.Results[0]
+			require.Len(t, sum.Tests, 1)
+			require.Len(t, sum.Tests[0].Results, 1)
+			r := sum.Tests[0].Results[0]
 			assert.Equal(t, c.verdict, r.Verdict)
 			assert.Equal(t, c.discharges, r.Discharges)
 			assert.Equal(t, 15, r.Applied)
-			assert.Equal(t, map[bool]int{true: 2}[c.settingUp], sum.Test.NotCounted)
+			assert.Equal(t, map[bool]int{true: 2}[c.settingUp], sum.Tests[0].NotCounted)
 			jl, err := os.ReadFile(filepath.Join(out, "results.jsonl"))
 			require.NoError(t, err)
 			for _, d := range c.discharged {
@@ -98,7 +99,7 @@ func TestWithstandProcedureB(t *testing.T) {
 			}
 			html, err := os.ReadFile(filepath.Join(out, "report.html"))
 			require.NoError(t, err)
-			assert.Contains(t, string(html), `id="test-outcome"`)
+			assert.Contains(t, string(html), `id="test-outcome-0"`)
 		})
 	}
 }

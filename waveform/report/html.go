@@ -78,7 +78,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Synthetic}}<p class="synthetic" id="synthetic">SYNTHETIC DATA: {{.Synthetic}} made by hvshot's synthesiser or demo, not measured. This is a rehearsal, not a test record.</p>{{end}}
 <dl class="facts" id="facts">
 <dt>Outcome</dt><dd class="{{.OutcomeClass}}">{{.Outcome}}</dd>
-{{with .Test}}<dt>Test outcome</dt><dd id="test-outcome"><span class="{{$.TestClass}}">{{index . 0}}</span>{{range slice . 1}}<br>{{.}}{{end}}</dd>
+{{range $i, $t := .Tests}}<dt>Test outcome</dt><dd id="test-outcome-{{$i}}"><span class="{{index $.TestClass $i}}">{{index $t 0}}</span>{{range slice $t 1}}<br>{{.}}{{end}}</dd>
 {{end}}{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
 <dt>Laboratory</dt><dd>{{or .Laboratory "not stated"}}</dd>
 <dt>Operator</dt><dd>{{or .Operator "not stated"}}</dd>
@@ -298,13 +298,18 @@ func HTML(w io.Writer, p Page) error {
 	if s := charts.String(); strings.Contains(s, "<svg") {
 		chartsHTML = template.HTML(s[strings.Index(s, "<svg"):])
 	}
+	var tests [][]string
+	var testClasses []string
+	for _, t := range s.Tests {
+		tests, testClasses = append(tests, TestLines(t)), append(testClasses, testClass(t))
+	}
 	data := map[string]any{
 		"Charts": chartsHTML,
 		"Title":  title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04 MST"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": s.Command, "Ratios": ratios(cfg),
-		"Test": TestLines(s.Test), "TestClass": testClass(s.Test),
+		"Tests": tests, "TestClass": testClasses,
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path
@@ -359,9 +364,6 @@ func ratios(cfg *shot.Config) string {
 
 // testClass is the colour of a test's headline: its worst polarity's verdict.
 func testClass(t *shot.TestOutcome) string {
-	if t == nil {
-		return ""
-	}
 	class := "pass"
 	for _, r := range t.Results {
 		switch r.Verdict {
@@ -380,10 +382,14 @@ func testClass(t *shot.TestOutcome) string {
 
 // air states the series' atmospheric correction with every factor, for the header.
 func air(cfg *shot.Config) string {
-	if cfg.Air != nil && cfg.Test != nil && !cfg.Test.Procedure.Withstand() {
+	if cfg.Air != nil && (len(cfg.Tests) > 0 || cfg.Nominal.Peak_v == 0) {
 		c := *cfg.Air
-		return fmt.Sprintf("%.1f kPa, %.1f °C, discharge path %.2f m: the U50 found is corrected to the standard atmosphere with Kt computed at U_B = U50 (Test outcome)",
-			c.Pressure_pa/1e3, c.Temperature_c, cfg.AirPath_m)
+		h := fmt.Sprintf("h %.1f g/m³", c.AbsHumidity_g_per_m3)
+		if c.RelHumidity_pct > 0 {
+			h = fmt.Sprintf("%.0f %% relative humidity (h %.1f g/m³)", c.RelHumidity_pct, atmos.AbsoluteHumidity(c.Temperature_c, c.RelHumidity_pct))
+		}
+		return fmt.Sprintf("%.1f kPa, %.1f °C, %s: each test is corrected at its own level and discharge path, a withstand voltage as U0 Kt, a U50 as U50/Kt with Kt at U_B = U50 (Test outcome)",
+			c.Pressure_pa/1e3, c.Temperature_c, h)
 	}
 	corr, err := cfg.Atmosphere()
 	switch {

@@ -172,8 +172,10 @@ func Summary(w io.Writer, s shot.Summary) {
 	if s.Interrupted {
 		fmt.Fprintln(w, "  interrupted: the rows above are the files finished before the stop")
 	}
-	for _, l := range TestLines(s.Test) {
-		fmt.Fprintln(w, "  "+l)
+	for _, t := range s.Tests {
+		for _, l := range TestLines(t) {
+			fmt.Fprintln(w, "  "+l)
+		}
 	}
 	if len(s.Stats) == 0 {
 		return

@@ -19,10 +19,13 @@ func TestLines(t *shot.TestOutcome) []string {
 		kind = "50 % disruptive-discharge voltage, " + string(t.Procedure) + " method"
 	}
 	head := "test: " + kind
+	if t.Name != "" {
+		head = "test " + t.Name + ": " + kind
+	}
 	if t.Specified_v > 0 && t.Procedure.Withstand() {
 		head += fmt.Sprintf(", %s specified", kv(t.Specified_v))
-		if t.Applied_v != t.Specified_v {
-			head += fmt.Sprintf(", %s applied (U0 Kt)", kv(t.Applied_v))
+		if c := t.Correction; c != nil {
+			head += fmt.Sprintf(", %s applied (U0 Kt; Kt %.4f: delta %.4f, k %.4f, g %.3f, m %.3f, w %.3f, L %.2f m)", kv(t.Applied_v), c.Kt, c.Delta, c.K, c.G, c.M, c.W, c.Path_m)
 		}
 		head += fmt.Sprintf(", counted within %g %%", t.LevelTol_pct)
 	}
