@@ -42,6 +42,9 @@ type Config struct {
 	// path, for the atmospheric correction (Atmosphere); nil when not described.
 	Air       *atmos.Conditions
 	AirPath_m float64
+	// Tests are the tests the series holds (the setup's [[test]] tables): their shots
+	// and how their outcomes are judged.
+	Tests []*TestPlan
 }
 
 // NewConfig returns the defaults: IEC 60060-1:2010's tolerances, the settings of
@@ -81,6 +84,7 @@ func FromSetup(s *Setup) *Config {
 	none := func(...string) int { return 0 }
 	c.Record, _ = s.record(none) // both checked by ParseSetup
 	c.Air, c.AirPath_m, _ = s.air(none)
+	c.Tests, _ = s.tests(s.Text)
 	return c
 }
 

@@ -82,6 +82,7 @@ type Setup struct {
 	Tolerance  ToleranceSetup   `toml:"tolerance"`
 	Method     MethodSetup      `toml:"method"`
 	Generator  GeneratorSetup   `toml:"generator"`
+	Tests      []TestSetup      `toml:"test"`
 	Read       ReadSetup        `toml:"read"`
 	Channels   []ChannelSetup   `toml:"channel"`
 	Path       string           `toml:"-"` // where it was read from, for the report
@@ -304,6 +305,9 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 		return nil, err
 	}
 	if _, _, err := s.air(at); err != nil {
+		return nil, err
+	}
+	if _, err := s.tests(text); err != nil {
 		return nil, err
 	}
 	if s.Generator.Stages < 0 {
