@@ -54,6 +54,7 @@ type sources struct {
 	fld        *probe.FieldResult
 	efficiency float64
 	droop_s    float64 // a divider's droop constant from its description
+	freq       *Frequency
 }
 
 // newSources has nothing to give: every number absent.
@@ -205,6 +206,22 @@ var Columns = []*Column{
 		}},
 	{Key: "droop_tau_estimated", Kind: Flag, Label: "droop estimated", Doc: "`true` when the droop time constant was estimated from the record",
 		text: func(r *Row) string { return flag(r.DroopEstimated) }},
+	{Key: "bw90_hz", Unit: "Hz", Kind: Number, Label: "BW90", Screen: "kHz", Scale: 1e-3, Digits: 4, Doc: "the frequency below which 90 % of the channel's energy lies (its signal's, the noise floor's share taken off)",
+		value: fromFreq(func(f *Frequency) float64 { return f.BW90_hz })},
+	{Key: "bw99_hz", Unit: "Hz", Kind: Number, Label: "BW99", Screen: "kHz", Scale: 1e-3, Digits: 4, Doc: "the same for 99 % of the energy",
+		value: fromFreq(func(f *Frequency) float64 { return f.BW99_hz })},
+	{Key: "compared_with", Kind: Text, Label: "compared with", Doc: "the reference shot of a comparison (`[comparison]`, `--reference`); on the reference's own rows its own identity, with no figures",
+		text: func(r *Row) string { return r.ComparedWith }},
+	{Key: "difference_peak_pct", Unit: "%", Kind: Number, Label: "diff peak", Screen: "%", Scale: 1, Digits: 2, Fixed: true, Doc: "comparison: the largest difference from the reference, scaled to its test voltage and aligned, in percent of the reference's peak",
+		value: fromFreq(func(f *Frequency) float64 { return f.DiffPeak_pct })},
+	{Key: "difference_rms_pct", Unit: "%", Kind: Number, Label: "diff RMS", Screen: "%", Scale: 1, Digits: 2, Fixed: true, Doc: "comparison: the difference's RMS over the reference's event (where it exceeds 5 % of its peak), in percent of its peak",
+		value: fromFreq(func(f *Frequency) float64 { return f.DiffRMS_pct })},
+	{Key: "difference_peak_time_s", Unit: "s", Kind: Number, Label: "diff at", Screen: "us", Scale: 1e6, Digits: 4, Doc: "comparison: when the largest difference occurs, on the reference's time base",
+		value: fromFreq(func(f *Frequency) float64 { return f.DiffTime_s })},
+	{Key: "transfer_deviation_pct", Unit: "%", Kind: Number, Label: "H dev", Screen: "%", Scale: 1, Digits: 2, Fixed: true, Doc: "comparison, the output channel's row: the largest deviation of the transfer function's magnitude |H| = |output/input| from the reference's in the band, in percent",
+		value: fromFreq(func(f *Frequency) float64 { return f.HDev_pct })},
+	{Key: "transfer_deviation_freq_hz", Unit: "Hz", Kind: Number, Label: "H dev at", Screen: "kHz", Scale: 1e-3, Digits: 4, Doc: "comparison: the frequency of that largest deviation",
+		value: fromFreq(func(f *Frequency) float64 { return f.HDevFreq_hz })},
 	{Key: "fired", Kind: Text, Label: "fired", Doc: "when the shot was fired: the trigger time the capture states, else the file's modification time (RFC 3339, UTC)",
 		text: func(r *Row) string {
 			if r.Fired.IsZero() {
@@ -256,6 +273,7 @@ type Row struct {
 	Discharge, DischargeSource string
 	Application                string // "counted", or "not counted: " and why
 	Counted                    bool
+	ComparedWith               string    // the reference shot's identity, in a comparison
 	Fired                      time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
 	Verdict                    Verdict
 	Failures                   []impulse.Failure

@@ -8,6 +8,7 @@ import (
 
 	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/spectrum"
 )
 
 // Config is everything a shot's evaluation needs, fixed for a series. Start from
@@ -45,6 +46,10 @@ type Config struct {
 	// Tests are the tests the series holds (the setup's [[test]] tables): their shots
 	// and how their outcomes are judged.
 	Tests []*TestPlan
+	// Spectrum says how each row's spectrum is taken (zero: spectrum.DefaultSettings);
+	// Comparison, when set, compares each shot with a reference shot.
+	Spectrum   spectrum.Settings
+	Comparison *Comparison
 }
 
 // NewConfig returns the defaults: IEC 60060-1:2010's tolerances, the settings of
@@ -85,6 +90,7 @@ func FromSetup(s *Setup) *Config {
 	c.Record, _ = s.record(none) // both checked by ParseSetup
 	c.Air, c.AirPath_m, _ = s.air(none)
 	c.Tests, _ = s.tests(s.Text)
+	c.Comparison = s.Comparison.comparison()
 	return c
 }
 

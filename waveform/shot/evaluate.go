@@ -32,6 +32,9 @@ type Curves struct {
 	Signal              []float64 // sensor: current in A or field in V/m, signed
 	Start_s, Interval_s float64
 	Quantity, Unit      string // "current", "A" or "field", "V/m"
+
+	Spectrum *SpectrumCurve // the row's spectrum; nil when it has no curve
+	Compare  *CompareCurve  // beside the reference, in a comparison
 }
 
 // PlotFailed is the warning code of a row whose plot could not be written.
@@ -118,6 +121,7 @@ func Evaluate(rec *waveform.Record, id string, cfg *Config) *Shot {
 			}
 		}
 	}
+	frequencyDomain(s, cfg)
 	return s
 }
 

@@ -83,6 +83,7 @@ type Setup struct {
 	Method     MethodSetup      `toml:"method"`
 	Generator  GeneratorSetup   `toml:"generator"`
 	Tests      []TestSetup      `toml:"test"`
+	Comparison *ComparisonSetup `toml:"comparison"`
 	Read       ReadSetup        `toml:"read"`
 	Channels   []ChannelSetup   `toml:"channel"`
 	Path       string           `toml:"-"` // where it was read from, for the report
@@ -306,6 +307,11 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	}
 	if _, _, err := s.air(at); err != nil {
 		return nil, err
+	}
+	if s.Comparison != nil {
+		if err := s.Comparison.check(at, file); err != nil {
+			return nil, err
+		}
 	}
 	if _, err := s.tests(text); err != nil {
 		return nil, err
