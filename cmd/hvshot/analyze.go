@@ -18,6 +18,7 @@ import (
 	flag "github.com/spf13/pflag"
 
 	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/report"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
@@ -25,11 +26,22 @@ import (
 func init() {
 	commands = append(commands,
 		&command{name: "analyze", usage: "[flags] PATH...", flags: analyzeCommand(false)},
-		&command{name: "watch", usage: "[flags] DIR", flags: analyzeCommand(true)})
+		&command{name: "watch", usage: "[flags] DIR", flags: analyzeCommand(true)},
+		&command{name: "compare", usage: "[flags] REFERENCE FILE...", flags: func(fs *flag.FlagSet) func([]string, *env) int {
+			do := analyzeCommand(false)(fs)
+			return func(args []string, e *env) int {
+				if len(args) < 2 {
+					return e.usage("compare", "give the reference shot and at least one shot to compare with it")
+				}
+				fs.Set("reference", args[0])
+				return do(args, e)
+			}
+		}})
 }
 
 type analyzeOpts struct {
 	setup, nominal, peak, out, format, plots, overOver, stages, charging string
+	reference                                                            string
 	jobs                                                                 int
 	quiet, force, chopped                                                bool
 	roles, coil, antenna, ratios                                         []string
@@ -42,6 +54,7 @@ func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int 
 		var o analyzeOpts
 		fs.StringVar(&o.setup, "setup", "", "setup `FILE` (default: "+shot.SetupFileName+" beside the captures)")
 		fs.StringVar(&o.nominal, "nominal", "", "nominal shape front/tail in us, e.g. 1.2/50 or 250/2500 (default: the standard shape of the family found) (`SHAPE`)")
+		fs.StringVar(&o.reference, "reference", "", "compare every shot with this one, a shot's identity or file: scaled difference, transfer function (`SHOT`)")
 		fs.StringVar(&o.peak, "peak", "", "nominal test voltage, e.g. 300kV (`VOLTAGE`)")
 		fs.BoolVar(&o.chopped, "chopped", false, "chopped impulses are intended: a full impulse fails on shape, a chopped one does not")
 		fs.StringSliceVar(&o.ratios, "ratio", nil, "divider ratio for every divider channel (1000), or for one channel (CH1=1000) (`RATIO`)")
@@ -133,6 +146,18 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		return exitUsage
 	}
 	if err != nil {
+		return e.usage(name, "%v", err)
+	}
+	ids := make([]string, len(files))
+	for i, f := range files {
+		ids[i] = f.id
+	}
+	if err := cfg.PrepareReference(o.reference, ids, func(i int, p string) (*waveform.Record, error) { // watch: ids empty, the reference a file
+		if i >= 0 {
+			p = files[i].path
+		}
+		return readers.ReadFile(p, rd)
+	}); err != nil {
 		return e.usage(name, "%v", err)
 	}
 	out, err := outputFolder(o.out, inputs, o.force)

@@ -159,6 +159,28 @@ func FindReference(name string, ids []string) int {
 	return k
 }
 
+// PrepareReference finds the comparison's reference, named here or else by the setup's
+// [comparison] table, among the shots (ids, read by read(i)); a name no shot has is read
+// as a file of its own (read(-1)). Nothing named: nothing to do.
+func (c *Config) PrepareReference(name string, ids []string, read func(i int, name string) (*waveform.Record, error)) error {
+	if name == "" && c.Comparison != nil {
+		name = c.Comparison.Reference
+	}
+	if name == "" {
+		return nil
+	}
+	i := FindReference(name, ids)
+	id := name
+	if i >= 0 {
+		id = ids[i]
+	}
+	rec, err := read(i, name)
+	if err != nil {
+		return fmt.Errorf("reference %s: %v", name, err)
+	}
+	return c.SetReference(rec, id)
+}
+
 // SetReference evaluates rec (shot id) under c and prepares it as the comparison's
 // reference, which every later Evaluate compares with. The command calls it before the
 // batch: the workers then share the reference read-only, and only its curves are held.

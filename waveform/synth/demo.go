@@ -32,8 +32,9 @@ type DemoShot struct {
 }
 
 // Demo returns the invented demo series: good shots, a slow front, ringing, a
-// flashover chop, a clipped record, a shot with no impulse, an unreadable file, and
-// coil and antenna channels on some shots.
+// flashover chop, a clipped record, a shot with no impulse, an unreadable file, coil
+// and antenna channels on some shots, and an invented winding's reduced-level and
+// full-level shots for a comparison.
 func Demo() []DemoShot {
 	heff, ca := probe.Whip(0.5, 0.002)
 	cl, r := 20e-12, 1e6
@@ -81,6 +82,21 @@ func Demo() []DemoShot {
 	}
 	shots = append(shots, DemoShot{File: "shot11.csv", Garbage: g})
 	add("shot12.csv", "text", base(1.19, 51.2, 150.6, 12))
+	// An invented winding test in the same bay: a reduced-level impulse (60 %), then
+	// full-level ones, the winding's current to earth recorded beside the voltage. The
+	// last full-level shot meets a changed winding (one capacitance to earth 5 % up, as
+	// an invented fault would leave it): its comparison with the reduced-level shot
+	// flags it.
+	winding := func(peak float64, seed uint64, altered int) Spec {
+		s := base(1.2, 50, peak, seed)
+		s.Noise, s.PreTrigger_s, s.Interval_s, s.Duration_s = 0.002*150/peak, 10e-6, 20e-9, 250e-6
+		s.Winding = &Winding{Sections: 4, L_h: 10e-3, R_ohm: 550, Cg_f: 0.5e-9, Shunt_ohm: 10, Altered: altered, Factor: 1.05, Noise_a: 0.11}
+		return s
+	}
+	add("winding01-reduced.csv", "text", winding(90, 21, 0))
+	add("winding02.csv", "text", winding(150.3, 22, 0))
+	add("winding03.csv", "text", winding(149.8, 23, 0))
+	add("winding04.csv", "text", winding(150.1, 24, 2))
 	return shots
 }
 
