@@ -127,7 +127,7 @@ func TestReportPrints(t *testing.T) {
 			assert.Contains(t, pg, m[1]+" "+m[2], "the plot of %s %s on the page of its heading (page %d)", m[1], m[2], i+1)
 		}
 	}
-	assert.Equal(t, 17, blocks, "every row's block is printed")
+	assert.Equal(t, 25, blocks, "every row's block is printed")
 }
 
 // probeWidths opens the report at a portrait page's width and at a desktop's with a

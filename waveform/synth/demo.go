@@ -90,7 +90,7 @@ func Demo() []DemoShot {
 	winding := func(peak float64, seed uint64, altered int) Spec {
 		s := base(1.2, 50, peak, seed)
 		s.Noise, s.PreTrigger_s, s.Interval_s, s.Duration_s = 0.002*150/peak, 10e-6, 20e-9, 250e-6
-		s.Winding = &Winding{Sections: 4, L_h: 10e-3, R_ohm: 550, Cg_f: 0.5e-9, Shunt_ohm: 10, Altered: altered, Factor: 1.05, Noise_a: 0.11}
+		s.Winding = &Winding{Sections: 4, L_h: 0.5e-3, R_ohm: 27.5, Cg_f: 10e-9, Shunt_ohm: 0.5, Altered: altered, Factor: 1.05, Noise_a: 2.1}
 		return s
 	}
 	add("winding01-reduced.csv", "text", winding(90, 21, 0))
