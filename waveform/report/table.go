@@ -162,6 +162,9 @@ func Summary(w io.Writer, s shot.Summary) {
 		files += " (" + plural(s.Shots, "shot") + ")"
 	}
 	more := ""
+	if s.Discharge > 0 {
+		more += fmt.Sprintf(", %d with a disruptive discharge (in a test)", s.Discharge)
+	}
 	if s.Incomplete > 0 {
 		more += fmt.Sprintf(", %d incomplete (compliance not shown)", s.Incomplete)
 	}

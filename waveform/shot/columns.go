@@ -118,7 +118,7 @@ var (
 		Stat: "peak field", Doc: "antenna or field: the field's peak", value: fromField(func(r *probe.FieldResult) float64 { return r.Peak_v_per_m })}
 	ColEfficiency = &Column{Key: "efficiency", Kind: Number, Label: "efficiency", Scale: 1, Digits: 3, Stat: "generator efficiency", Param: "test_voltage",
 		Doc: "Ut / (stages x charging voltage)", value: func(s *sources) float64 { return s.efficiency }}
-	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, or `measured` for a channel no tolerance applies to (coil, antenna, current, field)",
+	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, `measured` for a channel no tolerance applies to (coil, antenna, current, field), or `discharge` in a test when the test object discharged and the impulse was within tolerance as far as it went",
 		text: func(r *Row) string { return string(r.Verdict) }}
 	ColFailures = &Column{Key: "failures", Kind: List, always: true, Label: "failures",
 		Doc:  "names of the parameters out of tolerance (`test_voltage`, `front_time`, `time_to_half`, `overshoot`, `time_to_peak`, `shape`); CSV: joined by `;`",

@@ -299,6 +299,16 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	row.fill(src)
 	if test != nil && cs.Role == Divider {
 		test.application(&row, r, cfg.Nominal.Chopped, nom.Peak_v)
+		if row.Discharge != "none" && row.DischargeSource == "record" {
+			// the chop is the test object's discharge, not the generator's fault
+			row.Failures = slices.DeleteFunc(row.Failures, func(f impulse.Failure) bool { return f.Parameter == "shape" })
+			if len(row.Failures) == 0 && row.Verdict == Fail {
+				row.Verdict = Discharge
+				if len(row.Unmeasured) > 0 {
+					row.Verdict = Incomplete
+				}
+			}
+		}
 	}
 	return row, &Curves{Impulse: r, Nominal: nom, Tolerances: cfg.Tolerances}
 }
