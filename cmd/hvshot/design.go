@@ -3,7 +3,6 @@ package main
 import (
 	flag "github.com/spf13/pflag"
 
-	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/report"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
@@ -21,23 +20,13 @@ func designCommand(fs *flag.FlagSet) func([]string, *env) int {
 	nominal := fs.String("nominal", "1.2/50", "the shape, front/tail in us: 1.2/50, or 250/2500 for switching (`SHAPE`)")
 	factor := fs.Float64("front-factor", 1.67, "T1 = FACTOR (t90 - t30): IEC 60060-1's 1.67, or 1.6667 for 1/0.6 (`FACTOR`)")
 	return func(args []string, e *env) int {
+		g, t, err := shot.ParseDesign(*stages, *stageC, *c1, *c2, *side, *nominal, *factor)
 		if len(args) > 0 {
 			return e.usage("design", "takes flags only, not %q", args[0])
-		}
-		g, err := shot.ParseGenerator(*stages, *stageC, *c1, *c2, *side)
-		if err != nil {
+		} else if err != nil {
 			return e.usage("design", "%v", err)
 		}
-		nom, err := impulse.ParseNominal(*nominal)
-		if err != nil {
-			return e.usage("design", "--nominal: %v", err)
-		}
-		if !(*factor > 1.5 && *factor < 1.8) {
-			return e.usage("design", "--front-factor: 1.67 or near it, not %g", *factor)
-		}
-		t := shot.TargetOf(nom)
-		t.FrontFactor = *factor
-		if err := report.Design(e.stdout, *g, t); err != nil {
+		if err := report.Design(e.stdout, g, t); err != nil {
 			return e.fail("design", err)
 		}
 		return exitOK

@@ -100,6 +100,26 @@ func ParseGenerator(stages int, stageC, c1, c2, tail string) (*circuit.Generator
 	})
 }
 
+// ParseDesign reads what `hvshot design` is given: the generator as ParseGenerator
+// reads it, the nominal shape ("1.2/50") and the front time's factor (1.67, or 1/0.6 as
+// some texts take it).
+func ParseDesign(stages int, stageC, c1, c2, tail, nominal string, frontFactor float64) (circuit.Generator, circuit.Target, error) {
+	g, err := ParseGenerator(stages, stageC, c1, c2, tail)
+	if err != nil {
+		return circuit.Generator{}, circuit.Target{}, err
+	}
+	nom, err := impulse.ParseNominal(nominal)
+	if err != nil {
+		return *g, circuit.Target{}, fmt.Errorf("--nominal: %v", err)
+	}
+	if !(frontFactor > 1.5 && frontFactor < 1.8) {
+		return *g, circuit.Target{}, fmt.Errorf("--front-factor: 1.67 or near it, not %g", frontFactor)
+	}
+	t := TargetOf(nom)
+	t.FrontFactor = frontFactor
+	return *g, t, nil
+}
+
 // TargetOf is the shape a nominal asks for, as the circuit package designs for it.
 func TargetOf(n impulse.Nominal) circuit.Target {
 	return circuit.Target{Front_s: n.Front_s, Tail_s: n.Tail_s, Switching: n.Switching()}
