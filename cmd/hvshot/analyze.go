@@ -2,7 +2,6 @@ package main
 
 import (
 	"bufio"
-	"cmp"
 	"context"
 	"encoding/csv"
 	"encoding/json"
@@ -12,7 +11,6 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
-	"sort"
 	"strings"
 	"syscall"
 	"time"
@@ -148,7 +146,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if watch {
 		return watchDir(ctx, inputs[0], w, o, e)
 	}
-	series := shot.NewSeries(cfg.Series)
+	series := shot.NewSeries(cfg.Series).Judging(cfg)
 	var rows []shot.Row
 	var traces []shot.Trace
 	lost := false // a plot that could not be written: a warning on its row, and exit 2
@@ -217,74 +215,48 @@ func exitStatus(s shot.Summary) int {
 	return exitOK
 }
 
-// configure turns the setup file and the flags into the evaluation's configuration and
-// the reading options; flags override the setup file.
-// setupFor is the setup file of the captures: the one given, or the one beside them
-// all; captures that belong to different ones (or some to none) are refused.
+// setupFor is the setup file of the captures: the one given, or the one beside them all.
 func setupFor(o *analyzeOpts, files []input, roots []string) (string, error) {
+	if o.setup != "" {
+		return o.setup, nil
+	}
 	paths := make([]string, len(files))
 	for i, f := range files {
 		paths[i] = f.path
 	}
-	groups := readers.BesideAll(paths, roots, shot.SetupFileName)
-	if o.setup != "" || len(groups) <= 1 {
-		for p := range groups {
-			return cmp.Or(o.setup, p), nil
-		}
-		return o.setup, nil
+	p, err := readers.OneBeside(paths, roots, shot.SetupFileName)
+	if err != nil {
+		return "", fmt.Errorf("%v: analyze each series on its own, or give --setup", err)
 	}
-	var which []string
-	for p, used := range groups {
-		which = append(which, fmt.Sprintf("%s uses %s", used[0], cmp.Or(p, "no setup file")))
-	}
-	sort.Strings(which)
-	return "", fmt.Errorf("the captures belong to different setup files (%s): analyze each series on its own, or give --setup", strings.Join(which, "; "))
+	return p, nil
 }
 
+// configure turns the setup file and the flags into the evaluation's configuration and
+// the reading options; flags override the setup file.
 func configure(o *analyzeOpts, path string) (*shot.Config, readers.Options, error) {
 	rd, err := o.read.options()
 	if err != nil {
 		return nil, rd, err
 	}
-	cfg := shot.NewConfig()
+	var s *shot.Setup
 	if path != "" {
 		b, err := os.ReadFile(path)
 		if err != nil {
 			return nil, rd, fmt.Errorf("--setup: %v", err)
 		}
-		s, err := shot.ParseSetup(b, path)
-		if err != nil {
+		if s, err = shot.ParseSetup(b, path); err != nil {
 			return nil, rd, err
 		}
-		cfg = shot.FromSetup(s)
-		if s.Read.Interval.Set {
-			rd.DefaultInterval_s = s.Read.Interval.V // for files that state none; --interval replaces a file's own
-		}
-		if s.Read.TimeColumn != "" && rd.TimeColumn == "auto" {
-			rd.TimeColumn = s.Read.TimeColumn
-		}
+		rd = s.Read.Apply(rd)
 	}
-	for _, set := range []struct{ flag, key, value string }{{"nominal", "nominal", o.nominal}, {"peak", "peak", o.peak},
-		{"chopped", "chopped", map[bool]string{true: "true"}[o.chopped]}, {"overshoot-over", "overshoot_over", o.overOver},
-		{"stages", "stages", o.stages}, {"charging", "charging", o.charging}} {
-		if set.value != "" {
-			if err := cfg.Set(set.key, set.value); err != nil {
-				return nil, rd, fmt.Errorf("--%s: %v", set.flag, err)
-			}
-		}
+	var over []shot.Override
+	for _, f := range [][3]string{{"nominal", "nominal", o.nominal}, {"peak", "peak", o.peak}, {"chopped", "chopped", map[bool]string{true: "true"}[o.chopped]},
+		{"overshoot-over", "overshoot_over", o.overOver}, {"stages", "stages", o.stages}, {"charging", "charging", o.charging}} {
+		over = append(over, shot.Override{Blame: "--" + f[0] + ": ", Key: f[1], Value: f[2]})
 	}
 	for _, r := range o.ratios {
-		if err := cfg.Set("ratio", r); err != nil {
-			return nil, rd, fmt.Errorf("--ratio %v", err)
-		}
+		over = append(over, shot.Override{Blame: "--ratio ", Key: "ratio", Value: r})
 	}
-	for _, r := range o.roles {
-		if err := cfg.AddRole(r, strings.Join(o.coil, ","), strings.Join(o.antenna, ",")); err != nil {
-			return nil, rd, fmt.Errorf("--role %v", err)
-		}
-	}
-	if err := cfg.Check(len(o.coil) > 0, len(o.antenna) > 0); err != nil {
-		return nil, rd, err
-	}
-	return cfg, rd, nil
+	cfg, err := shot.Configure(s, over, o.roles, o.coil, o.antenna)
+	return cfg, rd, err
 }

@@ -79,7 +79,7 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 			}
 		})
 		if changed {
-			series := shot.NewSeries(w.cfg.Series)
+			series := shot.NewSeries(w.cfg.Series).Judging(w.cfg)
 			var rows []shot.Row
 			var traces []shot.Trace
 			for _, p := range order {

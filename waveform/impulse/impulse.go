@@ -9,6 +9,15 @@ import (
 	"github.com/hvshot/hvshot/waveform"
 )
 
+// Collapse is where on the impulse the voltage collapsed.
+type Collapse string
+
+const (
+	CollapseFront Collapse = "front" // before the extreme
+	CollapseCrest Collapse = "crest" // at 90 % of the extreme or above, after it
+	CollapseTail  Collapse = "tail"  // lower, on the tail
+)
+
 // Shape is the class of an impulse.
 type Shape string
 
@@ -101,7 +110,10 @@ type Result struct {
 	ChopInstant_s float64
 	// FrontChopped: chopped on the front, judged by its own quantities (time to
 	// chopping, voltage at chopping, steepness), not by a full impulse's T1 and overshoot.
-	FrontChopped      bool
+	FrontChopped bool
+	// Collapse is where the voltage collapsed, whatever the shape (a chopped impulse's
+	// chop, or a disruptive discharge during a switching impulse); "" when it did not.
+	Collapse          Collapse
 	Steepness_v_per_s float64 // front-chopped: the voltage at chopping over the time to chopping (from memory)
 	// DriftUt_pct, DriftT2_pct: how far the baseline's trend moves Ut and T2, in percent,
 	// when it reaches DriftMax of Ue at the 50 % point; NaN otherwise.
@@ -215,6 +227,18 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	if chopAt >= 0 && shape == LightningFull {
 		shape = LightningChopped
 	}
+	if chopAt >= 0 {
+		// where a collapse fell, for a disruptive discharge's record (our convention):
+		// before the extreme, within 10 % of it, or lower on the tail
+		switch {
+		case chopAt < ip:
+			r.Collapse = CollapseFront
+		case y[chopAt] >= 0.9*ue:
+			r.Collapse = CollapseCrest
+		default:
+			r.Collapse = CollapseTail
+		}
+	}
 	if s.ForceShape != "" {
 		shape = s.ForceShape
 	}
@@ -233,6 +257,9 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 		k := max(2, w/4)
 		onset := int(math.Round((r.ChopInstant_s - t0) / dt))
 		r.FrontChopped = ip >= k && onset-ip <= k && y[ip]-y[ip-k] > 0.02*ue
+		if r.FrontChopped {
+			r.Collapse = CollapseFront
+		}
 	}
 	end := n
 	if shape == LightningChopped {

@@ -140,6 +140,12 @@ var (
 			}
 			return strings.Join(c, ";")
 		}}
+	ColDischarge = &Column{Key: "discharge", Kind: Text, Label: "discharge",
+		Doc:  "in a test (a setup's `[test]` table), a divider row's disruptive discharge: `front`, `crest` or `tail` where the voltage collapsed, `marked` when only the setup says so, `none`",
+		text: func(r *Row) string { return r.Discharge }}
+	ColApplication = &Column{Key: "application", Kind: Text, Label: "application",
+		Doc:  "in a test: `counted` when the shot counts as an application of the test, else `not counted: ` and why (another level, polarity or shape, an incomplete record)",
+		text: func(r *Row) string { return r.Application }}
 	ColError = &Column{Key: "error", Kind: Text, Label: "error", Doc: "text naming the file and the line or byte, when `verdict` is `error`",
 		text: func(r *Row) string { return r.Error }}
 )
@@ -226,6 +232,10 @@ var Columns = []*Column{
 		}},
 	{Key: "synthetic", Kind: Flag, Label: "synthetic", Doc: "`true` when the capture says it is synthetic (made by `hvshot synth` or the demo), not a measurement",
 		text: func(r *Row) string { return flag(r.Synthetic) }},
+	ColDischarge,
+	{Key: "discharge_source", Kind: Text, Label: "discharge from", Doc: "in a test: `record` (found on the divider channel) or `setup` (marked by hand in `[test]`)",
+		text: func(r *Row) string { return r.DischargeSource }},
+	ColApplication,
 	ColVerdict, ColFailures, ColUnmeasured, ColWarnings, ColError,
 }
 
@@ -257,13 +267,19 @@ type Row struct {
 	Shape          impulse.Shape
 	Polarity       Polarity
 	DroopEstimated bool
-	Synthetic      bool      // the capture says it is synthetic: a rehearsal, not a test record
-	Fired          time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
-	Verdict        Verdict
-	Failures       []impulse.Failure
-	Unmeasured     []string // parameters the verdict needs that could not be measured
-	Warnings       []Warning
-	Error          string
+	Synthetic      bool // the capture says it is synthetic: a rehearsal, not a test record
+	// In a test (Config.Test), a divider row's disruptive discharge: where it was seen
+	// (front, crest, tail), "marked" by hand, or "none"; whether the record or the setup
+	// says so; and whether the shot counts as an application of the test.
+	Discharge, DischargeSource string
+	Application                string // "counted", or "not counted: " and why
+	Counted                    bool
+	Fired                      time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
+	Verdict                    Verdict
+	Failures                   []impulse.Failure
+	Unmeasured                 []string // parameters the verdict needs that could not be measured
+	Warnings                   []Warning
+	Error                      string
 	// Plot is the row's plot file relative to the output folder, set by whoever drew
 	// it; not an output key.
 	Plot string

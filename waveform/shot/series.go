@@ -7,6 +7,7 @@ import (
 
 	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/outcome"
 )
 
 // Stat is the spread of one parameter over a series, in SI.
@@ -49,6 +50,8 @@ type Summary struct {
 	// Atmosphere is the series' atmospheric correction (Config.Atmosphere; set by the
 	// caller).
 	Atmosphere *atmos.Correction `json:"atmosphere,omitempty"`
+	// Test is the test's outcome, when the setup describes a test (Series.Judging).
+	Test *TestOutcome `json:"test,omitempty"`
 }
 
 // Series accumulates shots into a Summary without keeping them: its memory does not
@@ -61,6 +64,11 @@ type Series struct {
 	incomplete         int
 	acc                map[statKey]*welford
 	first, last        time.Time
+	// a test's counted applications, the rows it left out, the hand marks met
+	cfg        *Config
+	apps       []applied
+	notCounted int
+	marksSeen  map[string]bool
 }
 
 // statKey is one statistic: a column over one group of shots. Lightning and switching
@@ -108,6 +116,15 @@ func NewSeries(name string) *Series {
 	return &Series{name: name, acc: map[statKey]*welford{}}
 }
 
+// Judging makes the series judge the test cfg describes (Config.Test), if any, and
+// returns it.
+func (s *Series) Judging(cfg *Config) *Series {
+	if cfg.Test != nil {
+		s.cfg, s.marksSeen = cfg, map[string]bool{}
+	}
+	return s
+}
+
 // Add counts one file's shots (one, or one a segment): their rows by verdict and their
 // values.
 func (s *Series) Add(shots ...*Shot) {
@@ -128,6 +145,18 @@ func (s *Series) add(sh *Shot) {
 			}
 			if f.After(s.last) {
 				s.last = f
+			}
+		}
+		if s.cfg != nil && r.Role == Divider && r.Application != "" {
+			if _, ok, name := s.cfg.Test.mark(r.File); ok {
+				s.marksSeen[name] = true
+			}
+			if !r.Counted {
+				s.notCounted++
+			} else {
+				ut, _ := r.Value(ColTestVoltage)
+				s.apps = append(s.apps, applied{fired: r.Fired, order: s.rows, polarity: r.Polarity, front: r.Discharge == "front",
+					switching: r.Shape == impulse.Switching, app: outcome.Application{ID: r.File, Level_v: ut, Discharge: r.Discharge != "none"}})
 			}
 		}
 		switch r.Verdict {
@@ -158,6 +187,9 @@ func (s *Series) add(sh *Shot) {
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
 	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Stats: []Stat{}}
+	if s.cfg != nil {
+		out.Test = s.cfg.Test.judge(slices.Clone(s.apps), s.notCounted, s.marksSeen, s.cfg)
+	}
 	if !s.first.IsZero() {
 		first, last := s.first.UTC(), s.last.UTC()
 		out.FirstFired, out.LastFired = &first, &last

@@ -1,0 +1,303 @@
+package shot
+
+import (
+	"fmt"
+	"math"
+	"path"
+	"slices"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/hvshot/hvshot/waveform/atmos"
+	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/outcome"
+)
+
+// TestSetup is the [test] table: what the series is for and how its outcome is judged.
+type TestSetup struct {
+	Purpose   string `toml:"purpose"`   // withstand or fifty_percent
+	Procedure string `toml:"procedure"` // A, B, C (withstand); up_and_down, multiple_level (fifty_percent)
+	Polarity  string `toml:"polarity"`  // positive or negative; absent: each polarity found, apart
+	// LevelTolerance_pct: an impulse counts at the specified level when its test voltage
+	// is within this of it (default: the test voltage tolerance, 3 %).
+	LevelTolerance_pct *float64 `toml:"level_tolerance_pct"`
+	Step               Quantity `toml:"step"` // the level step of an up-and-down series
+	// Discharged and Withstood mark shots by hand (a discharge the divider does not
+	// show, a collapse that was not the test object's), by identity or file name.
+	Discharged []string `toml:"discharged"`
+	Withstood  []string `toml:"withstood"`
+}
+
+// TestPlan is a series' test, checked: Config.Test.
+type TestPlan struct {
+	Procedure outcome.Procedure `json:"procedure"`
+	Purpose   string            `json:"purpose"`  // "withstand" or "fifty_percent"
+	Polarity  Polarity          `json:"polarity"` // "": each polarity apart
+	// Specified_v is the specified test voltage U0 of a withstand test (at the standard
+	// atmosphere), or an up-and-down series' first level; 0 when not given.
+	Specified_v  float64 `json:"specified_v,omitempty"`
+	LevelTol_pct float64 `json:"level_tolerance_pct"`
+	Step_v       float64 `json:"step_v,omitempty"`
+	// marks are the hand-marked shots: true discharged, false withstood.
+	marks map[string]bool
+}
+
+// test checks the [test] table; nil when the setup has none.
+func (s *Setup) test(at func(k ...string) int) (*TestPlan, error) {
+	t := s.Test
+	if t == nil {
+		return nil, nil
+	}
+	bad := func(key, format string, v ...any) error {
+		return &SetupError{File: s.Path, Line: at("test", key), Key: "test." + key, Msg: fmt.Sprintf(format, v...)}
+	}
+	p := &TestPlan{Purpose: t.Purpose, Polarity: Polarity(t.Polarity), LevelTol_pct: impulse.DefaultTolerances().TestVoltage_pct}
+	var ok bool
+	if p.Procedure, ok = outcome.Procedures[t.Procedure]; !ok {
+		return nil, bad("procedure", "%s: A, B or C (a withstand test), up_and_down or multiple_level (a 50 %% discharge voltage)", quoteOrMissing(t.Procedure))
+	}
+	want := map[bool]string{true: "withstand", false: "fifty_percent"}[p.Procedure.Withstand()]
+	switch {
+	case p.Purpose == "":
+		p.Purpose = want
+	case p.Purpose != "withstand" && p.Purpose != "fifty_percent":
+		return nil, bad("purpose", "%q: withstand or fifty_percent", p.Purpose)
+	case p.Purpose != want:
+		return nil, bad("procedure", "%q is not a procedure of a %s test", t.Procedure, strings.ReplaceAll(p.Purpose, "_", " "))
+	}
+	switch p.Polarity {
+	case "", Positive, Negative:
+	default:
+		return nil, bad("polarity", "%q: positive or negative (absent: each polarity found is judged apart)", t.Polarity)
+	}
+	if v := t.LevelTolerance_pct; v != nil {
+		if !(*v > 0 && *v <= 20) {
+			return nil, bad("level_tolerance_pct", "%g: a percentage above 0, at most 20", *v)
+		}
+		p.LevelTol_pct = *v
+	}
+	if err := t.Step.in("test.step", "V"); err != nil {
+		return nil, bad("step", "%v", strings.TrimPrefix(err.Error(), "test.step: "))
+	}
+	p.Step_v = math.Abs(t.Step.V)
+	if s.Nominal.TestVoltage.Set {
+		p.Specified_v = math.Abs(s.Nominal.TestVoltage.V)
+	}
+	if p.Procedure.Withstand() && p.Specified_v == 0 {
+		return nil, bad("procedure", "a withstand test needs the specified test voltage: give [nominal] test_voltage")
+	}
+	if p.Step_v > 0 && p.Specified_v > 0 && p.Step_v > 0.2*p.Specified_v {
+		return nil, bad("step", "%g V is more than 20 %% of the test voltage: a slip of unit?", p.Step_v)
+	}
+	p.marks = map[string]bool{}
+	for _, m := range []struct {
+		key   string
+		names []string
+		d     bool
+	}{{"discharged", t.Discharged, true}, {"withstood", t.Withstood, false}} {
+		for _, n := range m.names {
+			if d, seen := p.marks[n]; seen && d != m.d {
+				return nil, bad(m.key, "%q is marked both discharged and withstood", n)
+			}
+			p.marks[n] = m.d
+		}
+	}
+	return p, nil
+}
+
+func quoteOrMissing(s string) string {
+	if s == "" {
+		return "missing"
+	}
+	return fmt.Sprintf("%q", s)
+}
+
+// mark is the hand marking of the shot id: by its identity, its file name, or its file
+// name without the extension.
+func (p *TestPlan) mark(id string) (discharged, marked bool, name string) {
+	base := path.Base(strings.ReplaceAll(id, "\\", "/"))
+	for _, n := range []string{id, base, strings.TrimSuffix(base, path.Ext(base))} {
+		if d, ok := p.marks[n]; ok {
+			return d, true, n
+		}
+	}
+	return false, false, ""
+}
+
+// application decides a divider row's part in the test: whether it discharged (and
+// where the word came from), and whether it counts as an application, with the reason
+// when not. applied_v is the level a withstand test applies (U0, or U0 Kt).
+func (p *TestPlan) application(row *Row, r *impulse.Result, chopped bool, applied_v float64) {
+	collapse := ""
+	if r != nil && !chopped {
+		collapse = string(r.Collapse)
+	}
+	row.Discharge, row.DischargeSource = "none", "record"
+	if collapse != "" {
+		row.Discharge = collapse
+	}
+	if d, ok, _ := p.mark(row.File); ok {
+		row.DischargeSource = "setup"
+		switch {
+		case !d:
+			row.Discharge = "none"
+		case collapse == "":
+			row.Discharge = "marked"
+		}
+	}
+	discharged := row.Discharge != "none"
+	ut, utOK := row.Value(ColTestVoltage)
+	why := ""
+	switch {
+	case row.Verdict == Error:
+		why = "not evaluated"
+	case p.Polarity != "" && row.Polarity != p.Polarity:
+		why = fmt.Sprintf("%s; the test is %s", row.Polarity, p.Polarity)
+	case !p.Procedure.Withstand():
+		// a U50 series varies its level by design; what counts is a valid impulse
+		switch {
+		case discharged && row.Discharge == "front" && p.Procedure == outcome.MultipleLevel:
+			why = "discharged on the front: its level is unknown"
+		case discharged:
+		case row.Verdict == Incomplete:
+			why = "the record is incomplete"
+		case row.Verdict == Fail:
+			why = "its shape is out of tolerance"
+		}
+	case discharged && row.Discharge == "front":
+		// the level was not reached; the impulse was applied at it all the same
+	case !utOK || slices.Contains(row.Unmeasured, "test_voltage"):
+		why = "its test voltage could not be measured"
+	case math.Abs(ut-applied_v) > p.LevelTol_pct/100*applied_v:
+		why = fmt.Sprintf("%.0f %% of the level applied", 100*ut/applied_v)
+		if ut < applied_v {
+			why += ", a setting-up impulse"
+		}
+	case discharged:
+	case row.Verdict == Incomplete:
+		why = "the record is incomplete"
+	case row.Verdict == Fail:
+		why = "out of tolerance (" + strings.Join(row.FailureNames(), ", ") + ")"
+	}
+	row.Counted = why == ""
+	row.Application = "counted"
+	if why != "" {
+		row.Application = "not counted: " + why
+	}
+}
+
+// TestOutcome is the test's outcome in the summary: the plan, the level applied, and
+// a result for each polarity judged.
+type TestOutcome struct {
+	TestPlan
+	Applied_v  float64          `json:"applied_v,omitempty"` // the level a withstand test applies: U0 Kt (U0 without an atmospheric correction)
+	Results    []PolarityResult `json:"results"`
+	NotCounted int              `json:"not_counted"` // divider rows listed but not counted
+	Unmatched  []string         `json:"unmatched_marks,omitempty"`
+}
+
+// PolarityResult is one polarity's outcome, with a U50 also at the standard reference
+// atmosphere (U50 / Kt, Kt computed with U_B = U50) when the air is described.
+type PolarityResult struct {
+	outcome.Result
+	U50Standard_v float64           `json:"u50_standard_v,omitempty"`
+	Correction    *atmos.Correction `json:"u50_correction,omitempty"`
+}
+
+// Failed reports whether a withstand test failed in some polarity.
+func (t *TestOutcome) Failed() bool {
+	if t == nil {
+		return false
+	}
+	for _, r := range t.Results {
+		if r.Verdict == outcome.Failed {
+			return true
+		}
+	}
+	return false
+}
+
+// applied is one counted application, kept until the series ends: the test's outcome
+// may depend on the firing order.
+type applied struct {
+	fired     time.Time
+	order     int
+	polarity  Polarity
+	app       outcome.Application
+	front     bool // discharged on the front: its level is inferred (up-and-down)
+	switching bool
+}
+
+// judge is the test's outcome from the counted applications.
+func (p *TestPlan) judge(apps []applied, notCounted int, seen map[string]bool, cfg *Config) *TestOutcome {
+	out := &TestOutcome{TestPlan: *p, NotCounted: notCounted}
+	if p.Procedure.Withstand() {
+		out.Applied_v = p.Specified_v
+		if corr, err := cfg.Atmosphere(); err == nil && corr != nil {
+			out.Applied_v = atmos.ToApply(p.Specified_v, *corr)
+		}
+	}
+	for n := range p.marks {
+		if !seen[n] {
+			out.Unmatched = append(out.Unmatched, n)
+		}
+	}
+	sort.Strings(out.Unmatched)
+	sort.SliceStable(apps, func(i, j int) bool {
+		a, b := apps[i], apps[j]
+		if !a.fired.Equal(b.fired) && !a.fired.IsZero() && !b.fired.IsZero() {
+			return a.fired.Before(b.fired)
+		}
+		return a.order < b.order
+	})
+	pols := []Polarity{p.Polarity}
+	if p.Polarity == "" {
+		pols = nil
+		for _, pol := range []Polarity{Positive, Negative} {
+			if slices.ContainsFunc(apps, func(a applied) bool { return a.polarity == pol }) {
+				pols = append(pols, pol)
+			}
+		}
+		if len(pols) == 0 {
+			pols = []Polarity{Positive}
+		}
+	}
+	for _, pol := range pols {
+		var list []outcome.Application
+		switching := false
+		for _, a := range apps {
+			if a.polarity != pol {
+				continue
+			}
+			switching = switching || a.switching
+			if a.front && p.Procedure == outcome.UpDown && len(list) > 0 {
+				// an up-and-down impulse discharged on the front is at the level the
+				// rule sets after the one before
+				prev := list[len(list)-1]
+				a.app.Level_v = prev.Level_v + p.Step_v
+				if prev.Discharge {
+					a.app.Level_v = prev.Level_v - p.Step_v
+				}
+			}
+			list = append(list, a.app)
+		}
+		var r outcome.Result
+		switch p.Procedure {
+		case outcome.UpDown:
+			r = outcome.UpAndDown(string(pol), list, p.Step_v, switching)
+		case outcome.MultipleLevel:
+			r = outcome.MultipleLevels(string(pol), list, p.Step_v, switching)
+		default:
+			r = outcome.Withstand(p.Procedure, string(pol), list)
+		}
+		pr := PolarityResult{Result: r}
+		if cfg.Air != nil && r.Verdict == outcome.Determined {
+			if corr, err := atmos.Correct(*cfg.Air, r.U50_v, cfg.AirPath_m); err == nil {
+				pr.Correction, pr.U50Standard_v = &corr, atmos.ToStandard(r.U50_v, corr)
+			}
+		}
+		out.Results = append(out.Results, pr)
+	}
+	return out
+}
