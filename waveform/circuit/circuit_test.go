@@ -350,3 +350,11 @@ func TestFormats(t *testing.T) {
 		assert.Equal(t, c.want, c.got)
 	}
 }
+
+// The advice runs once per divider row: the shape solve and two inversions.
+func BenchmarkAdvise(b *testing.B) {
+	g := Generator{Stages: 8, Stage_f: 0.2e-6, C2_f: 1.2e-9, Tail: TailGeneratorSide}
+	for i := 0; i < b.N; i++ {
+		Advise(70e-6, 0.6e-6, g, lightning)
+	}
+}
