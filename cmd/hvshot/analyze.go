@@ -207,6 +207,8 @@ func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
 
 func exitStatus(s shot.Summary) int {
 	switch {
+	case s.TestFailed():
+		return exitTestFailed
 	case s.Errors > 0:
 		return exitFileErrors
 	case s.Fail > 0 || s.Incomplete > 0:

@@ -229,9 +229,12 @@ func Evaluate(x []float64, t0, dt float64, s Settings) (*Result, error) {
 	}
 	if chopAt >= 0 {
 		// where a collapse fell, for a disruptive discharge's record (our convention):
-		// before the extreme, within 10 % of it, or lower on the tail
+		// on the front when the curve still rises steeply into the extreme the collapse
+		// follows at once (as for a front-chopped impulse below), else within 10 % of
+		// the extreme, or lower on the tail
+		k := max(2, w/4)
 		switch {
-		case chopAt < ip:
+		case chopAt <= ip+1 && ip >= k && y[ip]-y[ip-k] > 0.02*ue:
 			r.Collapse = CollapseFront
 		case y[chopAt] >= 0.9*ue:
 			r.Collapse = CollapseCrest

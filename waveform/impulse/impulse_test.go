@@ -443,3 +443,39 @@ func TestDriftJudgedWhereItActs(t *testing.T) {
 		assert.NotEqual(t, "baseline-drift", w.Code, "no drift, no warning")
 	}
 }
+
+// Where a collapse falls, for a disruptive discharge's record: on the front, at the crest
+// (90 % of the extreme or above, after it) or on the tail (our convention), for lightning
+// and switching shapes (the handbook's double exponentials of impulse_refs.py), and
+// nowhere on an impulse that does not collapse.
+func TestCollapseWhere(t *testing.T) {
+	refs, _ := loadRefs(t)
+	for _, c := range []struct {
+		shape  string
+		dt, at float64 // collapse instant after the start
+		want   Collapse
+	}{
+		{"handbook-lightning", 2e-9, 0.8e-6, CollapseFront},
+		{"handbook-lightning", 2e-9, 3e-6, CollapseCrest},
+		{"handbook-lightning", 2e-9, 20e-6, CollapseTail},
+		{"handbook-lightning", 2e-9, 0, ""},
+		{"handbook-switching", 100e-9, 150e-6, CollapseFront},
+		{"handbook-switching", 100e-9, 600e-6, CollapseCrest},
+		{"handbook-switching", 100e-9, 2000e-6, CollapseTail},
+		{"handbook-switching", 100e-9, 0, ""},
+	} {
+		hb, ok := refs[c.shape]
+		require.True(t, ok, c.shape)
+		n := 60000
+		td := 2000 * c.dt
+		x := record(hb.Tau1, hb.Tau2, 300e3, td, c.dt, n, 0, 1)
+		if c.at > 0 {
+			for i := int((td + c.at) / c.dt); i < n; i++ {
+				x[i] = 0
+			}
+		}
+		r, err := Evaluate(x, 0, c.dt, DefaultSettings())
+		require.NoError(t, err, "%s at %g", c.shape, c.at)
+		assert.Equal(t, c.want, r.Collapse, "%s collapsed at %g s", c.shape, c.at)
+	}
+}

@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/base64"
+	"fmt"
 	"html/template"
 	"io"
 	"sort"
@@ -12,6 +13,7 @@ import (
 
 	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/outcome"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -76,7 +78,8 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Synthetic}}<p class="synthetic" id="synthetic">SYNTHETIC DATA: {{.Synthetic}} made by hvshot's synthesiser or demo, not measured. This is a rehearsal, not a test record.</p>{{end}}
 <dl class="facts" id="facts">
 <dt>Outcome</dt><dd class="{{.OutcomeClass}}">{{.Outcome}}</dd>
-{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
+{{range $i, $t := .Tests}}<dt>Test outcome</dt><dd id="test-outcome-{{$i}}"><span class="{{index $.TestClass $i}}">{{index $t 0}}</span>{{range slice $t 1}}<br>{{.}}{{end}}</dd>
+{{end}}{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
 <dt>Laboratory</dt><dd>{{or .Laboratory "not stated"}}</dd>
 <dt>Operator</dt><dd>{{or .Operator "not stated"}}</dd>
 <dt>Measuring system</dt><dd>{{$.Measuring}}</dd>
@@ -296,12 +299,18 @@ func HTML(w io.Writer, p Page) error {
 	if s := charts.String(); strings.Contains(s, "<svg") {
 		chartsHTML = template.HTML(s[strings.Index(s, "<svg"):])
 	}
+	var tests [][]string
+	var testClasses []string
+	for _, t := range s.Tests {
+		tests, testClasses = append(tests, TestLines(t)), append(testClasses, testClass(t))
+	}
 	data := map[string]any{
 		"Charts": chartsHTML,
 		"Title":  title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04 MST"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": s.Command, "Ratios": ratios(cfg),
+		"Tests": tests, "TestClass": testClasses,
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path
@@ -354,8 +363,35 @@ func ratios(cfg *shot.Config) string {
 	return strings.Join(out, "; ")
 }
 
+// testClass is the colour of a test's headline: its worst polarity's verdict.
+func testClass(t *shot.TestOutcome) string {
+	class := "pass"
+	for _, r := range t.Results {
+		switch r.Verdict {
+		case outcome.Failed:
+			return "fail"
+		case outcome.NotDecided:
+			class = "incomplete"
+		case outcome.Determined:
+			if class == "pass" {
+				class = ""
+			}
+		}
+	}
+	return class
+}
+
 // air states the series' atmospheric correction with every factor, for the header.
 func air(cfg *shot.Config) string {
+	if cfg.Air != nil && (len(cfg.Tests) > 0 || cfg.Nominal.Peak_v == 0) {
+		c := *cfg.Air
+		h := fmt.Sprintf("h %.1f g/m³", c.AbsHumidity_g_per_m3)
+		if c.RelHumidity_pct > 0 {
+			h = fmt.Sprintf("%.0f %% relative humidity (h %.1f g/m³)", c.RelHumidity_pct, atmos.AbsoluteHumidity(c.Temperature_c, c.RelHumidity_pct))
+		}
+		return fmt.Sprintf("%.1f kPa, %.1f °C, %s: each test is corrected at its own level and discharge path, a withstand voltage as U0 Kt, a U50 as U50/Kt with Kt at U_B = U50 (Test outcome)",
+			c.Pressure_pa/1e3, c.Temperature_c, h)
+	}
 	corr, err := cfg.Atmosphere()
 	switch {
 	case err != nil:

@@ -45,6 +45,13 @@ func Why(r *shot.Row) string {
 		return r.Error
 	}
 	var p []string
+	if r.Discharge != "" && r.Discharge != "none" {
+		where := map[string]string{"front": "on the front", "crest": "at the crest", "tail": "on the tail"}[r.Discharge]
+		p = append(p, strings.TrimSpace("disruptive discharge "+where)+" (from the "+r.DischargeSource+")")
+	}
+	if r.Application != "" && !r.Counted {
+		p = append(p, r.Application)
+	}
 	for _, f := range r.Failures {
 		p = append(p, f.String())
 	}
@@ -175,6 +182,11 @@ func Summary(w io.Writer, s shot.Summary) {
 	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error%s\n", files, plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors, more)
 	if s.Interrupted {
 		fmt.Fprintln(w, "  interrupted: the rows above are the files finished before the stop")
+	}
+	for _, t := range s.Tests {
+		for _, l := range TestLines(t) {
+			fmt.Fprintln(w, "  "+l)
+		}
 	}
 	if len(s.Stats) == 0 {
 		return

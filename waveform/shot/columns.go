@@ -141,7 +141,7 @@ var (
 			return strings.Join(c, ";")
 		}}
 	ColDischarge = &Column{Key: "discharge", Kind: Text, Label: "discharge",
-		Doc:  "in a test (a setup's `[test]` table), a divider row's disruptive discharge: `front`, `crest` or `tail` where the voltage collapsed, `marked` when only the setup says so, `none`",
+		Doc:  "in a test (a setup's `[[test]]` table), a divider row's disruptive discharge: `front`, `crest` or `tail` where the voltage collapsed, `marked` when only the setup says so, `none`",
 		text: func(r *Row) string { return r.Discharge }}
 	ColApplication = &Column{Key: "application", Kind: Text, Label: "application",
 		Doc:  "in a test: `counted` when the shot counts as an application of the test, else `not counted: ` and why (another level, polarity or shape, an incomplete record)",
@@ -233,7 +233,7 @@ var Columns = []*Column{
 	{Key: "synthetic", Kind: Flag, Label: "synthetic", Doc: "`true` when the capture says it is synthetic (made by `hvshot synth` or the demo), not a measurement",
 		text: func(r *Row) string { return flag(r.Synthetic) }},
 	ColDischarge,
-	{Key: "discharge_source", Kind: Text, Label: "discharge from", Doc: "in a test: `record` (found on the divider channel) or `setup` (marked by hand in `[test]`)",
+	{Key: "discharge_source", Kind: Text, Label: "discharge from", Doc: "in a test: `record` (found on the divider channel) or `setup` (marked by hand in `[[test]]`)",
 		text: func(r *Row) string { return r.DischargeSource }},
 	ColApplication,
 	ColVerdict, ColFailures, ColUnmeasured, ColWarnings, ColError,

@@ -230,13 +230,20 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		row.Warnings, timeSlip = append(row.Warnings, pw...), len(pw) > 0
 	}
 	nom := cfg.Nominal.For(r.Shape)
-	u50Test := cfg.Test != nil && !cfg.Test.Procedure.Withstand()
-	if u50Test {
+	test := cfg.TestFor(id)
+	switch {
+	case test != nil && !test.Procedure.Withstand():
 		nom.Peak_v = 0 // the level varies by design: no shot is judged on it
-	}
-	if corr, err := cfg.Atmosphere(); err == nil && corr != nil && nom.Peak_v > 0 {
-		// a withstand test applies U0 Kt (IEC 60060-1 clause 4.3): judged against that
-		nom.Peak_v = atmos.ToApply(nom.Peak_v, *corr)
+	case test != nil:
+		nom.Peak_v = test.Specified_v
+		if corr := test.correction(cfg.Air); corr != nil {
+			nom.Peak_v = atmos.ToApply(nom.Peak_v, *corr) // IEC 60060-1 clause 4.3: U0 Kt is applied
+		}
+	default:
+		if corr, err := cfg.Atmosphere(); err == nil && corr != nil && nom.Peak_v > 0 {
+			// a withstand test applies U0 Kt (IEC 60060-1 clause 4.3): judged against that
+			nom.Peak_v = atmos.ToApply(nom.Peak_v, *corr)
+		}
 	}
 	code, text, scaleOK := scaleSlip(r.TestVoltage_v, nom.Peak_v)
 	if code != "" {
@@ -297,8 +304,8 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		row.Warnings = append(row.Warnings, Warning{"not-measured", "compliance not shown: " + strings.Join(why, "; ")})
 	}
 	row.fill(src)
-	if cfg.Test != nil && cs.Role == Divider {
-		cfg.Test.application(&row, r, cfg.Nominal.Chopped, nom.Peak_v)
+	if test != nil && cs.Role == Divider {
+		test.application(&row, r, cfg.Nominal.Chopped, nom.Peak_v)
 	}
 	return row, &Curves{Impulse: r, Nominal: nom, Tolerances: cfg.Tolerances}
 }

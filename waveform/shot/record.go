@@ -114,7 +114,7 @@ func (s *Setup) air(at func(k ...string) int) (*atmos.Conditions, float64, error
 	if !(*a.Path_m > 0 && *a.Path_m < 100) {
 		return nil, 0, bad("discharge_path_m", "%g: the minimum discharge path in metres, above 0 and below 100", *a.Path_m)
 	}
-	if !s.Nominal.TestVoltage.Set && (s.Test == nil || s.Test.Purpose != "fifty_percent" && s.Test.Procedure != "up_and_down" && s.Test.Procedure != "multiple_level") {
+	if !s.Nominal.TestVoltage.Set && len(s.Tests) == 0 {
 		return nil, 0, bad("pressure_kpa", "the correction is computed for a withstand test at the nominal test voltage: give [nominal] test_voltage")
 	}
 	return &c, *a.Path_m, nil

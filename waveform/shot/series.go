@@ -50,8 +50,8 @@ type Summary struct {
 	// Atmosphere is the series' atmospheric correction (Config.Atmosphere; set by the
 	// caller).
 	Atmosphere *atmos.Correction `json:"atmosphere,omitempty"`
-	// Test is the test's outcome, when the setup describes a test (Series.Judging).
-	Test *TestOutcome `json:"test,omitempty"`
+	// Tests are the outcomes of the tests the setup describes (Series.Judging).
+	Tests []*TestOutcome `json:"tests,omitempty"`
 }
 
 // Series accumulates shots into a Summary without keeping them: its memory does not
@@ -64,8 +64,14 @@ type Series struct {
 	incomplete         int
 	acc                map[statKey]*welford
 	first, last        time.Time
-	// a test's counted applications, the rows it left out, the hand marks met
-	cfg        *Config
+	cfg                *Config
+	tests              []*testState // by Config.Tests
+}
+
+// testState is what a test keeps until the series ends: its counted applications, the
+// rows it left out, the hand marks met.
+type testState struct {
+	plan       *TestPlan
 	apps       []applied
 	notCounted int
 	marksSeen  map[string]bool
@@ -119,10 +125,24 @@ func NewSeries(name string) *Series {
 // Judging makes the series judge the test cfg describes (Config.Test), if any, and
 // returns it.
 func (s *Series) Judging(cfg *Config) *Series {
-	if cfg.Test != nil {
-		s.cfg, s.marksSeen = cfg, map[string]bool{}
+	s.cfg = cfg
+	for _, p := range cfg.Tests {
+		s.tests = append(s.tests, &testState{plan: p, marksSeen: map[string]bool{}})
 	}
 	return s
+}
+
+// testOf is the state of the test a divider row of a test belongs to.
+func (s *Series) testOf(r *Row) *testState {
+	if r.Role != Divider || r.Application == "" {
+		return nil
+	}
+	for _, t := range s.tests {
+		if t.plan.Belongs(r.File) {
+			return t
+		}
+	}
+	return nil
 }
 
 // Add counts one file's shots (one, or one a segment): their rows by verdict and their
@@ -147,15 +167,15 @@ func (s *Series) add(sh *Shot) {
 				s.last = f
 			}
 		}
-		if s.cfg != nil && r.Role == Divider && r.Application != "" {
-			if _, ok, name := s.cfg.Test.mark(r.File); ok {
-				s.marksSeen[name] = true
+		if t := s.testOf(r); t != nil {
+			if _, ok, name := t.plan.mark(r.File); ok {
+				t.marksSeen[name] = true
 			}
 			if !r.Counted {
-				s.notCounted++
+				t.notCounted++
 			} else {
 				ut, _ := r.Value(ColTestVoltage)
-				s.apps = append(s.apps, applied{fired: r.Fired, order: s.rows, polarity: r.Polarity, front: r.Discharge == "front",
+				t.apps = append(t.apps, applied{fired: r.Fired, order: s.rows, polarity: r.Polarity, front: r.Discharge == "front",
 					switching: r.Shape == impulse.Switching, app: outcome.Application{ID: r.File, Level_v: ut, Discharge: r.Discharge != "none"}})
 			}
 		}
@@ -187,8 +207,8 @@ func (s *Series) add(sh *Shot) {
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
 	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Stats: []Stat{}}
-	if s.cfg != nil {
-		out.Test = s.cfg.Test.judge(slices.Clone(s.apps), s.notCounted, s.marksSeen, s.cfg)
+	for _, t := range s.tests {
+		out.Tests = append(out.Tests, t.plan.judge(slices.Clone(t.apps), t.notCounted, t.marksSeen, s.cfg))
 	}
 	if !s.first.IsZero() {
 		first, last := s.first.UTC(), s.last.UTC()

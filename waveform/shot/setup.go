@@ -83,7 +83,7 @@ type Setup struct {
 	Tolerance  ToleranceSetup   `toml:"tolerance"`
 	Method     MethodSetup      `toml:"method"`
 	Generator  GeneratorSetup   `toml:"generator"`
-	Test       *TestSetup       `toml:"test"`
+	Tests      []TestSetup      `toml:"test"`
 	Read       ReadSetup        `toml:"read"`
 	Channels   []ChannelSetup   `toml:"channel"`
 	Path       string           `toml:"-"` // where it was read from, for the report
@@ -315,7 +315,7 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	if _, _, err := s.air(at); err != nil {
 		return nil, err
 	}
-	if _, err := s.test(at); err != nil {
+	if _, err := s.tests(text); err != nil {
 		return nil, err
 	}
 	if s.Generator.Stages < 0 {

@@ -14,11 +14,20 @@ import (
 	"github.com/hvshot/hvshot/waveform/outcome"
 )
 
-// TestSetup is the [test] table: what the series is for and how its outcome is judged.
+// TestSetup is one [[test]] table: a test the series holds, the shots that belong to it,
+// and how its outcome is judged.
 type TestSetup struct {
-	Purpose   string `toml:"purpose"`   // withstand or fifty_percent
-	Procedure string `toml:"procedure"` // A, B, C (withstand); up_and_down, multiple_level (fifty_percent)
-	Polarity  string `toml:"polarity"`  // positive or negative; absent: each polarity found, apart
+	Name string `toml:"name"`
+	// Shots are the test's shots: patterns (path.Match) on the shot's identity or its
+	// file name; none: every shot of the series.
+	Shots       []string `toml:"shots"`
+	TestVoltage Quantity `toml:"test_voltage"` // the specified test voltage; default [nominal] test_voltage
+	// DischargePath_m is the test object's minimum discharge path, for the atmospheric
+	// correction; default [atmosphere] discharge_path_m.
+	DischargePath_m *float64 `toml:"discharge_path_m"`
+	Purpose         string   `toml:"purpose"`   // withstand or fifty_percent
+	Procedure       string   `toml:"procedure"` // A, B, C (withstand); up_and_down, multiple_level (fifty_percent)
+	Polarity        string   `toml:"polarity"`  // positive or negative; absent: each polarity found, apart
 	// LevelTolerance_pct: an impulse counts at the specified level when its test voltage
 	// is within this of it (default: the test voltage tolerance, 3 %).
 	LevelTolerance_pct *float64 `toml:"level_tolerance_pct"`
@@ -29,8 +38,10 @@ type TestSetup struct {
 	Withstood  []string `toml:"withstood"`
 }
 
-// TestPlan is a series' test, checked: Config.Test.
+// TestPlan is a series' test, checked: Config.Tests.
 type TestPlan struct {
+	Name      string            `json:"name,omitempty"`
+	Shots     []string          `json:"shots,omitempty"`
 	Procedure outcome.Procedure `json:"procedure"`
 	Purpose   string            `json:"purpose"`  // "withstand" or "fifty_percent"
 	Polarity  Polarity          `json:"polarity"` // "": each polarity apart
@@ -39,20 +50,35 @@ type TestPlan struct {
 	Specified_v  float64 `json:"specified_v,omitempty"`
 	LevelTol_pct float64 `json:"level_tolerance_pct"`
 	Step_v       float64 `json:"step_v,omitempty"`
+	Path_m       float64 `json:"discharge_path_m,omitempty"` // for the atmospheric correction; 0: none
 	// marks are the hand-marked shots: true discharged, false withstood.
 	marks map[string]bool
 }
 
-// test checks the [test] table; nil when the setup has none.
-func (s *Setup) test(at func(k ...string) int) (*TestPlan, error) {
-	t := s.Test
-	if t == nil {
-		return nil, nil
+// tests checks the [[test]] tables; line is each table's first line, text the setup's.
+func (s *Setup) tests(text string) ([]*TestPlan, error) {
+	var plans []*TestPlan
+	for i := range s.Tests {
+		p, err := s.test(i, text)
+		if err != nil {
+			return nil, err
+		}
+		plans = append(plans, p)
+	}
+	return plans, nil
+}
+
+// test checks the i-th [[test]] table.
+func (s *Setup) test(i int, text string) (*TestPlan, error) {
+	t := &s.Tests[i]
+	where := "test"
+	if len(s.Tests) > 1 {
+		where = fmt.Sprintf("test %d", i+1)
 	}
 	bad := func(key, format string, v ...any) error {
-		return &SetupError{File: s.Path, Line: at("test", key), Key: "test." + key, Msg: fmt.Sprintf(format, v...)}
+		return &SetupError{File: s.Path, Line: tableKeyLine(text, "test", i, key), Key: where + "." + key, Msg: fmt.Sprintf(format, v...)}
 	}
-	p := &TestPlan{Purpose: t.Purpose, Polarity: Polarity(t.Polarity), LevelTol_pct: impulse.DefaultTolerances().TestVoltage_pct}
+	p := &TestPlan{Name: t.Name, Shots: t.Shots, Purpose: t.Purpose, Polarity: Polarity(t.Polarity), LevelTol_pct: impulse.DefaultTolerances().TestVoltage_pct}
 	var ok bool
 	if p.Procedure, ok = outcome.Procedures[t.Procedure]; !ok {
 		return nil, bad("procedure", "%s: A, B or C (a withstand test), up_and_down or multiple_level (a 50 %% discharge voltage)", quoteOrMissing(t.Procedure))
@@ -71,24 +97,46 @@ func (s *Setup) test(at func(k ...string) int) (*TestPlan, error) {
 	default:
 		return nil, bad("polarity", "%q: positive or negative (absent: each polarity found is judged apart)", t.Polarity)
 	}
+	for _, pat := range t.Shots {
+		if _, err := path.Match(pat, ""); err != nil {
+			return nil, bad("shots", "bad pattern %q", pat)
+		}
+	}
 	if v := t.LevelTolerance_pct; v != nil {
 		if !(*v > 0 && *v <= 20) {
 			return nil, bad("level_tolerance_pct", "%g: a percentage above 0, at most 20", *v)
 		}
 		p.LevelTol_pct = *v
 	}
-	if err := t.Step.in("test.step", "V"); err != nil {
-		return nil, bad("step", "%v", strings.TrimPrefix(err.Error(), "test.step: "))
+	for _, q := range []struct {
+		key string
+		q   Quantity
+	}{{"step", t.Step}, {"test_voltage", t.TestVoltage}} {
+		if err := q.q.in(q.key, "V"); err != nil {
+			return nil, bad(q.key, "%v", strings.TrimPrefix(err.Error(), q.key+": "))
+		}
 	}
 	p.Step_v = math.Abs(t.Step.V)
-	if s.Nominal.TestVoltage.Set {
+	switch {
+	case t.TestVoltage.Set:
+		p.Specified_v = math.Abs(t.TestVoltage.V)
+	case s.Nominal.TestVoltage.Set:
 		p.Specified_v = math.Abs(s.Nominal.TestVoltage.V)
 	}
 	if p.Procedure.Withstand() && p.Specified_v == 0 {
-		return nil, bad("procedure", "a withstand test needs the specified test voltage: give [nominal] test_voltage")
+		return nil, bad("procedure", "a withstand test needs the specified test voltage: give test_voltage here or in [nominal]")
 	}
 	if p.Step_v > 0 && p.Specified_v > 0 && p.Step_v > 0.2*p.Specified_v {
 		return nil, bad("step", "%g V is more than 20 %% of the test voltage: a slip of unit?", p.Step_v)
+	}
+	if s.Atmosphere != nil && s.Atmosphere.Path_m != nil {
+		p.Path_m = *s.Atmosphere.Path_m
+	}
+	if v := t.DischargePath_m; v != nil {
+		if !(*v > 0 && *v < 100) {
+			return nil, bad("discharge_path_m", "%g: the minimum discharge path in metres, above 0 and below 100", *v)
+		}
+		p.Path_m = *v
 	}
 	p.marks = map[string]bool{}
 	for _, m := range []struct {
@@ -104,6 +152,70 @@ func (s *Setup) test(at func(k ...string) int) (*TestPlan, error) {
 		}
 	}
 	return p, nil
+}
+
+// tableKeyLine is the line of key in the i-th [[name]] table of text (the table's own
+// line when the key is not written there), 0 when there is no such table.
+func tableKeyLine(text, name string, i int, key string) int {
+	n, table := -1, 0
+	for no, l := range strings.Split(text, "\n") {
+		l = strings.TrimSpace(l)
+		if strings.HasPrefix(l, "[") {
+			if l == "[["+name+"]]" {
+				n++
+			}
+			if n == i && table == 0 && l == "[["+name+"]]" {
+				table = no + 1
+			} else if table > 0 {
+				return table
+			}
+			continue
+		}
+		if k, _, ok := strings.Cut(l, "="); ok && table > 0 && strings.TrimSpace(k) == key {
+			return no + 1
+		}
+	}
+	return table
+}
+
+// Belongs reports whether the shot id is one of the test's shots.
+func (p *TestPlan) Belongs(id string) bool {
+	if len(p.Shots) == 0 {
+		return true
+	}
+	base := path.Base(strings.ReplaceAll(id, "\\", "/"))
+	for _, pat := range p.Shots {
+		if ok, _ := path.Match(pat, id); ok {
+			return true
+		}
+		if ok, _ := path.Match(pat, base); ok {
+			return true
+		}
+	}
+	return false
+}
+
+// TestFor is the first test the shot id belongs to, nil when none.
+func (c *Config) TestFor(id string) *TestPlan {
+	for _, p := range c.Tests {
+		if p.Belongs(id) {
+			return p
+		}
+	}
+	return nil
+}
+
+// correction is the atmospheric correction of a withstand test at its level: nil
+// without air or a discharge path.
+func (p *TestPlan) correction(air *atmos.Conditions) *atmos.Correction {
+	if air == nil || p.Path_m == 0 || p.Specified_v == 0 || !p.Procedure.Withstand() {
+		return nil
+	}
+	corr, err := atmos.CorrectWithstand(*air, p.Specified_v, p.Path_m)
+	if err != nil {
+		return nil
+	}
+	return &corr
 }
 
 func quoteOrMissing(s string) string {
@@ -191,10 +303,11 @@ func (p *TestPlan) application(row *Row, r *impulse.Result, chopped bool, applie
 // a result for each polarity judged.
 type TestOutcome struct {
 	TestPlan
-	Applied_v  float64          `json:"applied_v,omitempty"` // the level a withstand test applies: U0 Kt (U0 without an atmospheric correction)
-	Results    []PolarityResult `json:"results"`
-	NotCounted int              `json:"not_counted"` // divider rows listed but not counted
-	Unmatched  []string         `json:"unmatched_marks,omitempty"`
+	Applied_v  float64           `json:"applied_v,omitempty"`  // the level a withstand test applies: U0 Kt (U0 without an atmospheric correction)
+	Correction *atmos.Correction `json:"correction,omitempty"` // a withstand test's atmospheric correction at its level and discharge path
+	Results    []PolarityResult  `json:"results"`
+	NotCounted int               `json:"not_counted"` // divider rows listed but not counted
+	Unmatched  []string          `json:"unmatched_marks,omitempty"`
 }
 
 // PolarityResult is one polarity's outcome, with a U50 also at the standard reference
@@ -205,11 +318,13 @@ type PolarityResult struct {
 	Correction    *atmos.Correction `json:"u50_correction,omitempty"`
 }
 
+// TestFailed reports whether some withstand test of the series failed.
+func (s Summary) TestFailed() bool {
+	return slices.ContainsFunc(s.Tests, (*TestOutcome).Failed)
+}
+
 // Failed reports whether a withstand test failed in some polarity.
 func (t *TestOutcome) Failed() bool {
-	if t == nil {
-		return false
-	}
 	for _, r := range t.Results {
 		if r.Verdict == outcome.Failed {
 			return true
@@ -234,8 +349,8 @@ func (p *TestPlan) judge(apps []applied, notCounted int, seen map[string]bool, c
 	out := &TestOutcome{TestPlan: *p, NotCounted: notCounted}
 	if p.Procedure.Withstand() {
 		out.Applied_v = p.Specified_v
-		if corr, err := cfg.Atmosphere(); err == nil && corr != nil {
-			out.Applied_v = atmos.ToApply(p.Specified_v, *corr)
+		if corr := p.correction(cfg.Air); corr != nil {
+			out.Applied_v, out.Correction = atmos.ToApply(p.Specified_v, *corr), corr
 		}
 	}
 	for n := range p.marks {
@@ -292,8 +407,8 @@ func (p *TestPlan) judge(apps []applied, notCounted int, seen map[string]bool, c
 			r = outcome.Withstand(p.Procedure, string(pol), list)
 		}
 		pr := PolarityResult{Result: r}
-		if cfg.Air != nil && r.Verdict == outcome.Determined {
-			if corr, err := atmos.Correct(*cfg.Air, r.U50_v, cfg.AirPath_m); err == nil {
+		if cfg.Air != nil && p.Path_m > 0 && r.Verdict == outcome.Determined {
+			if corr, err := atmos.Correct(*cfg.Air, r.U50_v, p.Path_m); err == nil {
 				pr.Correction, pr.U50Standard_v = &corr, atmos.ToStandard(r.U50_v, corr)
 			}
 		}
