@@ -121,6 +121,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}}{{if ne .Channel "-"}} · {{.Channel}}{{end}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
 {{if .Kind}}<p>{{.Kind}}</p>{{end}}
 {{if .Why}}<p class="{{.R.Verdict}} msg">{{.Why}}</p>{{end}}
+{{if .R.Advice}}<p class="msg" id="{{.Anchor}}-resistors">{{.R.Advice}}</p>{{end}}
 {{if .Params}}<dl class="params">{{range .Params}}<div><dt>{{.K}}</dt><dd>{{.V}}</dd></div>{{end}}</dl>{{end}}
 {{range .R.Warnings}}<p class="warn msg">warning {{.Code}}: {{.Text}}</p>{{end}}
 {{call $.Plot .R.Plot}}</section>

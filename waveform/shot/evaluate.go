@@ -284,6 +284,13 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	case len(row.Unmeasured) > 0:
 		row.Verdict = Incomplete
 	}
+	// the circuit rests on the base curve's time constants: not on a curve whose times
+	// could not be measured or trusted
+	if !slices.ContainsFunc(row.untrusted, func(p string) bool { return p == "front_time" || p == "time_to_half" || p == "time_to_peak" }) {
+		if src.advice = advise(r, nom, cfg); src.advice != nil && timeFailed(row.Failures) {
+			row.Advice = src.advice.Sentence()
+		}
+	}
 	if len(row.Unmeasured) > 0 {
 		// the parameters grouped by their reason: "(the record is clipped): front_time, ..."
 		byWhy := map[string][]string{}
