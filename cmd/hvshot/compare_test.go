@@ -19,7 +19,7 @@ func TestCompareCommand(t *testing.T) {
 	require.Equal(t, exitOK, code, out+stderr)
 	caps := filepath.Join(dir, "captures")
 	args := []string{"compare", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(dir, "cmp")}
-	for _, f := range []string{"winding01-reduced.csv", "winding02.csv", "winding04.csv"} {
+	for _, f := range []string{"winding/reduced01.csv", "winding/full02.csv", "winding/full04.csv"} {
 		args = append(args, filepath.Join(caps, f))
 	}
 	code, out, stderr = runCmd(args...)
@@ -35,7 +35,7 @@ func TestCompareCommand(t *testing.T) {
 		}
 		require.NoError(t, json.Unmarshal([]byte(l), &r), l)
 		rows++
-		assert.Equal(t, "winding01-reduced.csv", r.Compared, "%s %s", r.File, r.Channel)
+		assert.Equal(t, "reduced01.csv", r.Compared, "%s %s: identities relative to the files' common folder", r.File, r.Channel)
 		for _, w := range r.Warnings {
 			if w.Code == "comparison-deviation" {
 				flagged[r.File] = true
@@ -43,12 +43,12 @@ func TestCompareCommand(t *testing.T) {
 		}
 	}
 	assert.Equal(t, 6, rows)
-	assert.Equal(t, map[string]bool{"winding04.csv": true}, flagged)
+	assert.Equal(t, map[string]bool{"full04.csv": true}, flagged)
 
-	code, _, stderr = runCmd("compare", filepath.Join(caps, "winding02.csv"))
+	code, _, stderr = runCmd("compare", filepath.Join(caps, "winding/full02.csv"))
 	assert.Equal(t, exitUsage, code)
 	assert.Contains(t, stderr, "at least one shot to compare")
-	code, _, stderr = runCmd("analyze", "--quiet", "--plots", "none", "--out", filepath.Join(dir, "x"), "--reference", "nosuch.csv", filepath.Join(caps, "winding02.csv"))
+	code, _, stderr = runCmd("analyze", "--quiet", "--plots", "none", "--out", filepath.Join(dir, "x"), "--reference", "nosuch.csv", filepath.Join(caps, "winding/full02.csv"))
 	assert.Equal(t, exitUsage, code)
 	assert.Contains(t, stderr, "reference nosuch.csv")
 }

@@ -48,7 +48,7 @@ var reportTmpl = template.Must(template.New("report").Parse(`<!DOCTYPE html>
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>{{.Title}}</title>
 <style>
-:root{--pass:#176117;--fail:#a00000;--error:#7a4b00;--measured:#33506e;--incomplete:#8a3c00}
+:root{--pass:#176117;--fail:#a00000;--error:#7a4b00;--measured:#33506e;--incomplete:#8a3c00;--discharge:#5b2a86}
 *{box-sizing:border-box}
 body{font-family:"Liberation Sans",Arial,Helvetica,system-ui,sans-serif;margin:1.5em auto;max-width:62em;color:#222;padding:0 1em;font-size:15px;line-height:1.35}
 h1{font-size:1.45em;margin:.2em 0}h2{font-size:1.15em;margin-top:1.8em;border-bottom:1px solid #bbb}h3{font-size:1.02em;margin:.2em 0}
@@ -57,7 +57,7 @@ th{background:#f2f2f2;font-weight:600}td.l,th.l{text-align:left}
 .num{white-space:nowrap;font-variant-numeric:tabular-nums}
 table.shots{width:100%}table.shots td.l{overflow-wrap:anywhere}table.shots td.shot{min-width:7em}table.shots td.shape,table.shots td.v{white-space:nowrap;overflow-wrap:normal}
 table.shots tbody.first tr:first-child td{border-top:2px solid #999}.shot h3,#stats-table td.l{overflow-wrap:anywhere}table.shots tr.why td{text-align:left;border-top:none;font-size:.82em;color:#444;overflow-wrap:anywhere}
-.pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}
+.pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}.discharge{color:var(--discharge);font-weight:bold}
 dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:.6em 0}dl.facts dt{font-weight:600}dl.facts dd{margin:0;overflow-wrap:anywhere}
 .synthetic{background:#fde8e8;border:2px solid #a00000;color:#a00000;font-weight:bold;padding:.5em .8em;margin:.8em 0}
 .shot{border:1px solid #ddd;padding:.4em .8em;margin:1em 0;border-radius:4px}.charts{break-inside:avoid;margin:.5em 0}
@@ -104,6 +104,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 <tr><th class="l">fail</th><td class="fail">{{.Sum.Fail}}</td></tr>
 <tr><th class="l">error</th><td class="error">{{.Sum.Errors}}</td></tr>
 {{if .Sum.Incomplete}}<tr><th class="l">incomplete (compliance not shown)</th><td class="incomplete">{{.Sum.Incomplete}}</td></tr>{{end}}
+{{if .Sum.Discharge}}<tr><th class="l">disruptive discharge (in a test)</th><td class="discharge">{{.Sum.Discharge}}</td></tr>{{end}}
 {{if .Sum.Measured}}<tr><th class="l">measured (no tolerance applies)</th><td class="measured">{{.Sum.Measured}}</td></tr>{{end}}
 </table>
 {{if .Sum.Interrupted}}<p class="fail">The run was interrupted: only the shots finished before the stop are here.</p>{{end}}
@@ -120,6 +121,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}}{{if ne .Channel "-"}} · {{.Channel}}{{end}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
 {{if .Kind}}<p>{{.Kind}}</p>{{end}}
 {{if .Why}}<p class="{{.R.Verdict}} msg">{{.Why}}</p>{{end}}
+{{if .R.Advice}}<p class="msg" id="{{.Anchor}}-resistors">{{.R.Advice}}</p>{{end}}
 {{if .Params}}<dl class="params">{{range .Params}}<div><dt>{{.K}}</dt><dd>{{.V}}</dd></div>{{end}}</dl>{{end}}
 {{range .R.Warnings}}<p class="warn msg">warning {{.Code}}: {{.Text}}</p>{{end}}
 {{call $.Plot .R.Plot}}</section>
@@ -242,7 +244,7 @@ func HTML(w io.Writer, p Page) error {
 	for _, p := range []struct {
 		n           int
 		what, class string
-	}{{s.Fail, "out of tolerance", "fail"}, {s.Incomplete, "incomplete (compliance not shown)", "incomplete"}, {s.Errors, "not evaluated", "error"}} {
+	}{{s.Fail, "out of tolerance", "fail"}, {s.Incomplete, "incomplete (compliance not shown)", "incomplete"}, {s.Errors, "not evaluated", "error"}, {s.Discharge, "with a disruptive discharge of the test object", "discharge"}} {
 		if p.n > 0 {
 			if len(parts) == 0 {
 				class = p.class

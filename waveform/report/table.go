@@ -109,6 +109,14 @@ func Table(w io.Writer, rows []shot.Row) {
 		fmt.Fprintln(tw, strings.Join(append(cells, r.Verdict.Word(), Why(r)), "\t"))
 	}
 	tw.Flush()
+	// the resistor advice of rows that failed on a time, each on a line of its own
+	sep := "\n"
+	for i := range rows {
+		if r := &rows[i]; r.Advice != "" {
+			fmt.Fprintf(w, "%s%s %s: %s\n", sep, r.File, dash(r.Channel), r.Advice)
+			sep = ""
+		}
+	}
 }
 
 // Line is one row on one line, for a stream of results (watch): the shot, channel,
@@ -126,6 +134,9 @@ func Line(r *shot.Row) string {
 	parts = append(parts, r.Verdict.Word())
 	if why := Why(r); why != "" {
 		parts = append(parts, why)
+	}
+	if r.Advice != "" {
+		parts = append(parts, r.Advice)
 	}
 	return strings.Join(parts, "  ")
 }
@@ -162,6 +173,9 @@ func Summary(w io.Writer, s shot.Summary) {
 		files += " (" + plural(s.Shots, "shot") + ")"
 	}
 	more := ""
+	if s.Discharge > 0 {
+		more += fmt.Sprintf(", %d with a disruptive discharge (in a test)", s.Discharge)
+	}
 	if s.Incomplete > 0 {
 		more += fmt.Sprintf(", %d incomplete (compliance not shown)", s.Incomplete)
 	}

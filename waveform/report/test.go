@@ -20,7 +20,7 @@ func TestLines(t *shot.TestOutcome) []string {
 	}
 	head := "test: " + kind
 	if t.Name != "" {
-		head = "test " + t.Name + ": " + kind
+		head = t.Name + ": " + kind
 	}
 	if t.Specified_v > 0 && t.Procedure.Withstand() {
 		head += fmt.Sprintf(", %s specified", kv(t.Specified_v))

@@ -9,6 +9,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/hvshot/hvshot/waveform/circuit"
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/probe"
 )
@@ -55,6 +56,7 @@ type sources struct {
 	efficiency float64
 	droop_s    float64 // a divider's droop constant from its description
 	freq       *Frequency
+	advice     *circuit.Advice
 }
 
 // newSources has nothing to give: every number absent.
@@ -83,6 +85,10 @@ func fromFit(f func(*impulse.Result) float64) func(*sources) float64 {
 		}
 		return f(r)
 	})
+}
+
+func fromAdvice(f func(*circuit.Advice) float64) func(*sources) float64 {
+	return from(func(s *sources) *circuit.Advice { return s.advice }, f)
 }
 
 func fromCurrent(f func(*probe.CurrentResult) float64) func(*sources) float64 {
@@ -119,7 +125,7 @@ var (
 		Stat: "peak field", Doc: "antenna or field: the field's peak", value: fromField(func(r *probe.FieldResult) float64 { return r.Peak_v_per_m })}
 	ColEfficiency = &Column{Key: "efficiency", Kind: Number, Label: "efficiency", Scale: 1, Digits: 3, Stat: "generator efficiency", Param: "test_voltage",
 		Doc: "Ut / (stages x charging voltage)", value: func(s *sources) float64 { return s.efficiency }}
-	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, or `measured` for a channel no tolerance applies to (coil, antenna, current, field)",
+	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, `measured` for a channel no tolerance applies to (coil, antenna, current, field), or `discharge` in a test when the test object discharged and the impulse was within tolerance as far as it went",
 		text: func(r *Row) string { return string(r.Verdict) }}
 	ColFailures = &Column{Key: "failures", Kind: List, always: true, Label: "failures",
 		Doc:  "names of the parameters out of tolerance (`test_voltage`, `front_time`, `time_to_half`, `overshoot`, `time_to_peak`, `shape`); CSV: joined by `;`",
@@ -177,6 +183,18 @@ var Columns = []*Column{
 		value: fromFit(func(r *impulse.Result) float64 { return r.Fit.Params.Tau1_s })},
 	{Key: "base_tau2_s", Unit: "s", Kind: Number, Label: "tau2", Screen: "us", Scale: 1e6, Digits: 4, Doc: "the base curve's front time constant",
 		value: fromFit(func(r *impulse.Result) float64 { return r.Fit.Params.Tau2_s })},
+	{Key: "front_resistance_ohm", Unit: "ohm", Kind: Number, Label: "Rf", Screen: "ohm", Scale: 1, Digits: 4, Stat: "front resistance Rf (identified)",
+		Doc:   "the generator's effective front resistance, all stages together, identified from the base curve's tau1 and tau2 and the `[generator]` circuit (docs/method.md); full impulses only, absent when no circuit of the kind fits",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Rf_ohm })},
+	{Key: "tail_resistance_ohm", Unit: "ohm", Kind: Number, Label: "Rt", Screen: "ohm", Scale: 1, Digits: 4, Stat: "tail resistance Rt (identified)",
+		Doc:   "the generator's effective tail resistance, identified as `front_resistance_ohm` is",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Rt_ohm })},
+	{Key: "front_resistance_for_nominal_ohm", Unit: "ohm", Kind: Number, Label: "Rf for nominal", Screen: "ohm", Scale: 1, Digits: 4,
+		Doc:   "the front resistance, all stages together, that gives the nominal shape with the `[generator]` circuit (the exact two-capacitor design); absent when none does",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Design.Rf_ohm })},
+	{Key: "tail_resistance_for_nominal_ohm", Unit: "ohm", Kind: Number, Label: "Rt for nominal", Screen: "ohm", Scale: 1, Digits: 4,
+		Doc:   "the tail resistance that gives the nominal shape, as `front_resistance_for_nominal_ohm`",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Design.Rt_ohm })},
 	{Key: "fit_rms_v", Unit: "V", Kind: Number, Label: "fit RMS", Screen: "kV", Scale: 1e-3, Digits: 3, Doc: "the RMS of the recorded curve minus the base curve over the fit window",
 		value: fromFit(func(r *impulse.Result) float64 { return r.Fit.ResidualRMS })},
 	{Key: "residual_freq_hz", Unit: "Hz", Kind: Number, Label: "ringing", Screen: "MHz", Scale: 1e-6, Digits: 3, Doc: "the dominant frequency of the residual (an oscillation on the impulse)",
@@ -283,6 +301,10 @@ type Row struct {
 	// Plot is the row's plot file relative to the output folder, set by whoever drew
 	// it; not an output key.
 	Plot string
+	// Advice is the resistor advice in words for a divider row that failed on a time
+	// parameter, when the generator's circuit is described; its numbers are columns,
+	// the sentence is not an output key.
+	Advice string
 
 	values    []float64 // by column index; NaN when absent
 	untrusted []string  // parameters measured but not to be trusted, for the statistics

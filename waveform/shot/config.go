@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"github.com/hvshot/hvshot/waveform/atmos"
+	"github.com/hvshot/hvshot/waveform/circuit"
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/spectrum"
 )
@@ -21,6 +22,9 @@ type Config struct {
 	Settings   impulse.Settings
 	Stages     int     // generator stages, for the efficiency; 0 when not described
 	Charging_v float64 // charging voltage per stage
+	// Circuit is the generator's discharge circuit, for the resistor columns and advice;
+	// nil when not described. Its stage count is Stages at evaluation.
+	Circuit *circuit.Generator
 
 	// Channels describe the file's channels (the setup's [[channel]] tables); a
 	// required one missing from a file is that file's error.
@@ -85,6 +89,7 @@ func FromSetup(s *Setup) *Config {
 	c.Settings.ForceShape = impulse.Shape(s.Method.Shape)
 	c.Stages = s.Generator.Stages
 	c.Charging_v = math.Abs(s.Generator.ChargingVoltage.V)
+	c.Circuit, _ = s.Generator.circuitOf(func(string, string, ...any) error { return nil }) // checked by ParseSetup
 	c.Channels = s.Channels
 	none := func(...string) int { return 0 }
 	c.Record, _ = s.record(none) // both checked by ParseSetup

@@ -288,6 +288,13 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	case len(row.Unmeasured) > 0:
 		row.Verdict = Incomplete
 	}
+	// the circuit rests on the base curve's time constants: not on a curve whose times
+	// could not be measured or trusted
+	if !slices.ContainsFunc(row.untrusted, func(p string) bool { return p == "front_time" || p == "time_to_half" || p == "time_to_peak" }) {
+		if src.advice = advise(r, nom, cfg); src.advice != nil && timeFailed(row.Failures) {
+			row.Advice = src.advice.Sentence()
+		}
+	}
 	if len(row.Unmeasured) > 0 {
 		// the parameters grouped by their reason: "(the record is clipped): front_time, ..."
 		byWhy := map[string][]string{}
@@ -303,6 +310,16 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	row.fill(src)
 	if test != nil && cs.Role == Divider {
 		test.application(&row, r, cfg.Nominal.Chopped, nom.Peak_v)
+		if row.Discharge != "none" && row.DischargeSource == "record" {
+			// the chop is the test object's discharge, not the generator's fault
+			row.Failures = slices.DeleteFunc(row.Failures, func(f impulse.Failure) bool { return f.Parameter == "shape" })
+			if len(row.Failures) == 0 && row.Verdict == Fail {
+				row.Verdict = Discharge
+				if len(row.Unmeasured) > 0 {
+					row.Verdict = Incomplete
+				}
+			}
+		}
 	}
 	return row, &Curves{Impulse: r, Nominal: nom, Tolerances: cfg.Tolerances}
 }

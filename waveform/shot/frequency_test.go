@@ -46,7 +46,7 @@ func TestDemoWindingComparison(t *testing.T) {
 	recs := map[string]*waveform.Record{}
 	var ids []string
 	for _, d := range synth.Demo() {
-		if strings.HasPrefix(d.File, "winding") || d.File == "shot01.csv" {
+		if strings.HasPrefix(d.File, "winding/") || d.File == "shot01.csv" {
 			rec, err := d.Record()
 			require.NoError(t, err)
 			recs[d.File] = rec
@@ -54,7 +54,7 @@ func TestDemoWindingComparison(t *testing.T) {
 		}
 	}
 	require.NoError(t, cfg.PrepareReference("", ids, func(i int, name string) (*waveform.Record, error) { return recs[ids[i]], nil }))
-	assert.Equal(t, "winding01-reduced.csv", cfg.Comparison.RefID)
+	assert.Equal(t, "winding/reduced01.csv", cfg.Comparison.RefID)
 	rowOf := func(s *shot.Shot, ch string) *shot.Row {
 		for i := range s.Rows {
 			if s.Rows[i].Channel == ch {
@@ -83,10 +83,10 @@ func TestDemoWindingComparison(t *testing.T) {
 	for _, c := range []struct {
 		file    string
 		flagged bool
-	}{{"winding02.csv", false}, {"winding03.csv", false}, {"winding04.csv", true}} {
+	}{{"winding/full02.csv", false}, {"winding/full03.csv", false}, {"winding/full04.csv", true}} {
 		s := shot.Evaluate(recs[c.file], c.file, cfg)
 		cur := rowOf(s, "current")
-		assert.Equal(t, "winding01-reduced.csv", cur.ComparedWith)
+		assert.Equal(t, "winding/reduced01.csv", cur.ComparedWith)
 		dev, ok := cur.Value(col("transfer_deviation_pct"))
 		require.True(t, ok, "%s: transfer deviation", c.file)
 		_, ok = rowOf(s, "divider").Value(col("transfer_deviation_pct"))
@@ -110,8 +110,8 @@ func TestDemoWindingComparison(t *testing.T) {
 			assert.True(t, ok && v > 0, "%s %s", s.Rows[i].Channel, k)
 		}
 	}
-	ref := shot.Evaluate(recs["winding01-reduced.csv"], "winding01-reduced.csv", cfg)
+	ref := shot.Evaluate(recs["winding/reduced01.csv"], "winding/reduced01.csv", cfg)
 	_, ok := rowOf(ref, "current").Value(col("difference_peak_pct"))
 	assert.False(t, ok, "the reference is not compared with itself")
-	assert.Equal(t, "winding01-reduced.csv", rowOf(ref, "current").ComparedWith)
+	assert.Equal(t, "winding/reduced01.csv", rowOf(ref, "current").ComparedWith)
 }

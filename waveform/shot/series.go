@@ -38,6 +38,7 @@ type Summary struct {
 	Errors      int    `json:"error"`
 	Measured    int    `json:"measured"`   // rows with no tolerance to judge (coil, antenna)
 	Incomplete  int    `json:"incomplete"` // rows whose compliance could not be shown
+	Discharge   int    `json:"discharge"`  // rows of a test where the test object discharged
 	Stats       []Stat `json:"stats"`
 	Interrupted bool   `json:"interrupted,omitempty"`
 	// Command is how the run was started, for the record (set by the caller).
@@ -62,6 +63,7 @@ type Series struct {
 	pass, fail, errors int
 	measured           int
 	incomplete         int
+	discharge          int
 	acc                map[statKey]*welford
 	first, last        time.Time
 	cfg                *Config
@@ -188,6 +190,8 @@ func (s *Series) add(sh *Shot) {
 			s.measured++
 		case Incomplete:
 			s.incomplete++
+		case Discharge:
+			s.discharge++
 		default:
 			s.errors++
 		}
@@ -206,7 +210,7 @@ func (s *Series) add(sh *Shot) {
 
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
-	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Stats: []Stat{}}
+	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Discharge: s.discharge, Stats: []Stat{}}
 	for _, t := range s.tests {
 		out.Tests = append(out.Tests, t.plan.judge(slices.Clone(t.apps), t.notCounted, t.marksSeen, s.cfg))
 	}

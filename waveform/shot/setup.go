@@ -3,6 +3,7 @@ package shot
 import (
 	"bufio"
 	"bytes"
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
@@ -119,6 +120,13 @@ type MethodSetup struct {
 type GeneratorSetup struct {
 	Stages          int      `toml:"stages"`
 	ChargingVoltage Quantity `toml:"charging_voltage"`
+	// The discharge circuit, for the resistor columns and advice (generator.go).
+	StageCapacitance Quantity `toml:"stage_capacitance"`
+	Capacitance      Quantity `toml:"capacitance"` // C1 as a whole, in place of stage_capacitance
+	LoadCapacitance  Quantity `toml:"load_capacitance"`
+	TailResistor     string   `toml:"tail_resistor"` // generator_side or load_side
+	FrontPerStage    Quantity `toml:"front_resistor_per_stage"`
+	TailPerStage     Quantity `toml:"tail_resistor_per_stage"`
 }
 
 // ReadSetup is the [read] table: what files may not say about themselves.
@@ -318,6 +326,11 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	}
 	if s.Generator.Stages < 0 {
 		return nil, bad(at("generator", "stages"), "generator.stages", "must be positive")
+	}
+	if _, err := s.Generator.circuitOf(func(key, format string, a ...any) error {
+		return bad(cmp.Or(at("generator", key), at("generator")), "generator."+key, format, a...)
+	}); err != nil {
+		return nil, err
 	}
 	switch s.Read.TimeColumn {
 	case "", "auto", "first", "none":

@@ -51,8 +51,8 @@ func TestSetupErrorsNameKeyAndLine(t *testing.T) {
 func TestDemoSetupParses(t *testing.T) {
 	s, err := shot.ParseSetup([]byte(synth.DemoSetup), "demo.toml")
 	require.NoError(t, err)
-	require.Len(t, s.Channels, 3)
-	assert.Equal(t, []shot.Role{shot.Divider, shot.Coil, shot.Antenna}, []shot.Role{s.Channels[0].Role, s.Channels[1].Role, s.Channels[2].Role})
+	require.Len(t, s.Channels, 4)
+	assert.Equal(t, []shot.Role{shot.Divider, shot.Coil, shot.Antenna, shot.Current}, []shot.Role{s.Channels[0].Role, s.Channels[1].Role, s.Channels[2].Role, s.Channels[3].Role})
 	c := shot.FromSetup(s)
 	assert.Equal(t, "PI-7-0042", c.Record.ObjectID)
 	assert.Equal(t, 1.5, c.Record.Uncertainty_pct)
