@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"context"
 	"encoding/csv"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"os"
@@ -131,7 +130,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		if files, skipped, err = collectFiles(inputs, o.out); err != nil {
 			return e.fail(name, err)
 		}
-		tellLeftOut(e, name, skipped, o.quiet, map[string]bool{})
+		report.LeftOut(e.stderr, name, skipped, o.quiet, map[string]bool{})
 		if len(files) == 0 {
 			return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
 		}
@@ -186,7 +185,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 			lost = lost || s.PlotsLost()
 			rows, traces = append(rows, s.Rows...), append(traces, s.Traces...)
 			if o.format != "table" {
-				printRows(e, o.format, csvOut, s.Rows)
+				report.StreamRows(e.stdout, o.format, csvOut, s.Rows)
 			}
 		}
 		prog.Step(i + 1)
@@ -212,22 +211,6 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		return exitFileErrors
 	}
 	return exitStatus(sum)
-}
-
-// printRows streams finished rows to stdout as csv, jsonl or table lines.
-func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
-	for i := range rows {
-		switch format {
-		case "jsonl":
-			b, _ := json.Marshal(&rows[i])
-			e.stdout.Write(append(b, '\n'))
-		case "csv":
-			w.Write(rows[i].CSVRecord())
-		case "table": // a row at a time, as watch prints them
-			fmt.Fprintln(e.stdout, report.Line(&rows[i]))
-		}
-	}
-	w.Flush()
 }
 
 func exitStatus(s shot.Summary) int {

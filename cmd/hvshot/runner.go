@@ -39,19 +39,6 @@ func collectFiles(args []string, outDir string) (files []input, skipped []string
 	return files, skipped, err
 }
 
-// tellLeftOut names on stderr, each once, what a folder scan left out.
-func tellLeftOut(e *env, name string, skipped []string, quiet bool, told map[string]bool) {
-	var fresh []string
-	for _, s := range skipped {
-		if !told[s] && !quiet {
-			told[s], fresh = true, append(fresh, s)
-		}
-	}
-	if len(fresh) > 0 {
-		fmt.Fprintf(e.stderr, "hvshot %s: left out %d (not captures): %s\n", name, len(fresh), strings.Join(fresh, ", "))
-	}
-}
-
 // outputFolder takes the folder asked for (see folder.Open), or makes a new one next to
 // the inputs: beside a folder given, in the folder of a file given.
 func outputFolder(out string, inputs []string, replace bool) (*folder.Folder, error) {

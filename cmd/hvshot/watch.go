@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"time"
 
+	"github.com/hvshot/hvshot/waveform/report"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -42,7 +43,7 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 	defer tick.Stop()
 	for {
 		list, skipped, _ := collectFiles([]string{dir}, w.out.Path)
-		tellLeftOut(e, "watch", skipped, o.quiet, told)
+		report.LeftOut(e.stderr, "watch", skipped, o.quiet, told)
 		var ready []input
 		now := time.Now()
 		for _, in := range list {
@@ -75,7 +76,7 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 			}
 			shots[in.path] = got
 			for _, sh := range got {
-				printRows(e, o.format, csvOut, sh.Rows)
+				report.StreamRows(e.stdout, o.format, csvOut, sh.Rows)
 			}
 		})
 		if changed {

@@ -1,6 +1,8 @@
 package report
 
 import (
+	"encoding/csv"
+	"encoding/json"
 	"fmt"
 	"io"
 	"sort"
@@ -208,4 +210,34 @@ func plural(n int, word string) string {
 		return "1 " + word
 	}
 	return fmt.Sprintf("%d %ss", n, word)
+}
+
+// StreamRows writes finished rows as they come: as CSV records through c (format
+// "csv"), JSON Lines ("jsonl") or table lines ("table", as watch prints them).
+func StreamRows(w io.Writer, format string, c *csv.Writer, rows []shot.Row) {
+	for i := range rows {
+		switch format {
+		case "jsonl":
+			b, _ := json.Marshal(&rows[i])
+			w.Write(append(b, '\n'))
+		case "csv":
+			c.Write(rows[i].CSVRecord())
+		case "table":
+			fmt.Fprintln(w, Line(&rows[i]))
+		}
+	}
+	c.Flush()
+}
+
+// LeftOut names on w, each once (told remembers), what a folder scan left out.
+func LeftOut(w io.Writer, command string, skipped []string, quiet bool, told map[string]bool) {
+	var fresh []string
+	for _, s := range skipped {
+		if !told[s] && !quiet {
+			told[s], fresh = true, append(fresh, s)
+		}
+	}
+	if len(fresh) > 0 {
+		fmt.Fprintf(w, "hvshot %s: left out %d (not captures): %s\n", command, len(fresh), strings.Join(fresh, ", "))
+	}
 }
