@@ -89,14 +89,9 @@ func max2(a, b int) int {
 	return b
 }
 
-// save draws the plots side by side in the format and writes them to w. Two panels
-// fill an A4 page's width; PNG is drawn at twice a screen's resolution, for print.
-func save(w io.Writer, format PlotFormat, ps ...*plot.Plot) error {
-	return saveGrid(w, format, [][]*plot.Plot{ps})
-}
-
-// saveGrid draws rows of panels (a nil panel leaves its tile empty), each row as high
-// as save's one.
+// saveGrid draws rows of panels (a nil panel leaves its tile empty) in the format and
+// writes them to w. Two panels fill an A4 page's width, each row 8.5 cm high; PNG is
+// drawn at twice a screen's resolution, for print.
 func saveGrid(w io.Writer, format PlotFormat, grid [][]*plot.Plot) error {
 	width, height := vg.Length(len(grid[0]))*12*vg.Centimeter, vg.Length(len(grid))*8.5*vg.Centimeter
 	var c vg.CanvasWriterTo
