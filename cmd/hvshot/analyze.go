@@ -126,6 +126,9 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		}
 	}
 	cfg, rd, err := configure(o, setup)
+	if err == nil {
+		files = notLog(files, cfg)
+	}
 	var se *shot.SetupError
 	if errors.As(err, &se) {
 		fmt.Fprintf(e.stderr, "hvshot %s: %v\nThe setup file's keys and units are in docs/setup.md.\n", name, err)
@@ -243,5 +246,16 @@ func configure(o *analyzeOpts, path string) (*shot.Config, readers.Options, erro
 		over = append(over, shot.Override{Blame: "--ratio ", Key: "ratio", Value: r})
 	}
 	cfg, err := shot.Configure(s, over, o.roles, o.coil, o.antenna)
+	if err == nil && s != nil && s.Atmosphere != nil && s.Atmosphere.Log != "" {
+		p := s.Atmosphere.Log
+		if !filepath.IsAbs(p) {
+			p = filepath.Join(filepath.Dir(path), p) // beside the setup file
+		}
+		var f *os.File
+		if f, err = os.Open(p); err == nil {
+			err = cfg.ReadAirLog(f, p)
+			f.Close()
+		}
+	}
 	return cfg, rd, err
 }
