@@ -26,26 +26,16 @@ func init() {
 	commands = append(commands,
 		&command{name: "analyze", usage: "[flags] PATH...", flags: analyzeCommand(false)},
 		&command{name: "watch", usage: "[flags] DIR", flags: analyzeCommand(true)},
-		&command{name: "compare", usage: "[flags] REFERENCE FILE...", flags: func(fs *flag.FlagSet) func([]string, *env) int {
-			do := analyzeCommand(false)(fs)
-			return func(args []string, e *env) int {
-				if len(args) < 2 {
-					return e.usage("compare", "give the reference shot and at least one shot to compare with it")
-				}
-				fs.Set("reference", args[0])
-				return do(args, e)
-			}
-		}})
+		&command{name: "compare", usage: "[flags] REFERENCE FILE...", flags: analyzeCommand(false)})
 }
 
 type analyzeOpts struct {
-	setup, nominal, peak, out, format, plots, overOver, stages, charging string
-	reference                                                            string
-	jobs                                                                 int
-	quiet, force, chopped                                                bool
-	roles, coil, antenna, ratios                                         []string
-	read                                                                 readFlags
-	poll                                                                 time.Duration
+	setup, nominal, peak, out, format, plots, overOver, stages, charging, reference string
+	jobs                                                                            int
+	quiet, force, chopped                                                           bool
+	roles, coil, antenna, ratios                                                    []string
+	read                                                                            readFlags
+	poll                                                                            time.Duration
 }
 
 func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int {
@@ -139,6 +129,9 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		}
 	}
 	cfg, rd, err := configure(o, setup)
+	if err == nil {
+		files = notLog(files, cfg)
+	}
 	var se *shot.SetupError
 	if errors.As(err, &se) {
 		fmt.Fprintf(e.stderr, "hvshot %s: %v\nThe setup file's keys and units are in docs/setup.md.\n", name, err)
@@ -147,16 +140,14 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
-	ids := make([]string, len(files))
-	for i, f := range files {
-		ids[i] = f.id
+	if e.command[1] == "compare" && o.reference == "" && len(inputs) > 0 {
+		o.reference = inputs[0] // the first file named is the reference
 	}
-	if err := cfg.PrepareReference(o.reference, ids, func(i int, p string) (*waveform.Record, error) { // watch: ids empty, the reference a file
-		if i >= 0 {
-			p = files[i].path
-		}
-		return readers.ReadFile(p, rd)
-	}); err != nil {
+	paths := make([]string, len(files))
+	for i := range files {
+		paths[i] = files[i].path
+	}
+	if err := cfg.PrepareReference(o.reference, paths, func(p string) (*waveform.Record, error) { return readers.ReadFile(p, rd) }); err != nil {
 		return e.usage(name, "%v", err)
 	}
 	out, err := outputFolder(o.out, inputs, o.force)
@@ -268,5 +259,16 @@ func configure(o *analyzeOpts, path string) (*shot.Config, readers.Options, erro
 		over = append(over, shot.Override{Blame: "--ratio ", Key: "ratio", Value: r})
 	}
 	cfg, err := shot.Configure(s, over, o.roles, o.coil, o.antenna)
+	if err == nil && s != nil && s.Atmosphere != nil && s.Atmosphere.Log != "" {
+		p := s.Atmosphere.Log
+		if !filepath.IsAbs(p) {
+			p = filepath.Join(filepath.Dir(path), p) // beside the setup file
+		}
+		var f *os.File
+		if f, err = os.Open(p); err == nil {
+			err = cfg.ReadAirLog(f, p)
+			f.Close()
+		}
+	}
 	return cfg, rd, err
 }

@@ -45,9 +45,9 @@ func TestCompareCommand(t *testing.T) {
 	assert.Equal(t, 6, rows)
 	assert.Equal(t, map[string]bool{"full04.csv": true}, flagged)
 
-	code, _, stderr = runCmd("compare", filepath.Join(caps, "winding/full02.csv"))
+	code, _, stderr = runCmd("compare")
 	assert.Equal(t, exitUsage, code)
-	assert.Contains(t, stderr, "at least one shot to compare")
+	assert.Contains(t, stderr, "no captures named")
 	code, _, stderr = runCmd("analyze", "--quiet", "--plots", "none", "--out", filepath.Join(dir, "x"), "--reference", "nosuch.csv", filepath.Join(caps, "winding/full02.csv"))
 	assert.Equal(t, exitUsage, code)
 	assert.Contains(t, stderr, "reference nosuch.csv")

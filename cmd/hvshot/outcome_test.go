@@ -3,14 +3,17 @@ package main
 import (
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -102,4 +105,51 @@ func TestWithstandProcedureB(t *testing.T) {
 			assert.Contains(t, string(html), `id="test-outcome-0"`)
 		})
 	}
+}
+
+// An air log beside the setup: each shot is judged with the reading in force when it was
+// fired (its kt key), the test's applied level from the reading at its last application;
+// a broken log names its file, line and column. Invented readings.
+func TestAirLogPerShot(t *testing.T) {
+	dir := t.TempDir()
+	caps := filepath.Join(dir, "caps")
+	require.NoError(t, os.MkdirAll(caps, 0o755))
+	start := time.Date(2026, 5, 4, 10, 0, 0, 0, time.UTC)
+	for i := 1; i <= 3; i++ {
+		p := filepath.Join(caps, fmt.Sprintf("shot%d.csv", i))
+		writeShot(t, p, spec(1.2, 50, 150e3, uint64(i)), "text")
+		at := start.Add(time.Duration(i) * time.Minute)
+		require.NoError(t, os.Chtimes(p, at, at))
+	}
+	setup := "[nominal]\nshape = \"1.2/50\"\ntest_voltage = \"150 kV\"\n[atmosphere]\nlog = \"air.csv\"\ndischarge_path_m = 0.42\n[[test]]\nprocedure = \"A\"\n"
+	require.NoError(t, os.WriteFile(filepath.Join(caps, shot.SetupFileName), []byte(setup), 0o644))
+	logText := "time,pressure_kpa,temperature_c,rel_humidity_pct\n2026-05-04T10:00:00Z,100.0,20,50\n2026-05-04T10:02:30Z,95.0,25,70\n"
+	require.NoError(t, os.WriteFile(filepath.Join(caps, "air.csv"), []byte(logText), 0o644))
+	out := filepath.Join(dir, "out")
+	code, stdout, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", out, caps)
+	require.Equal(t, exitOK, code, stdout+stderr)
+	kt := map[string]float64{}
+	for _, l := range strings.Split(strings.TrimSpace(stdout), "\n") {
+		var r struct {
+			File string
+			Kt   float64
+		}
+		require.NoError(t, json.Unmarshal([]byte(l), &r))
+		kt[r.File] = r.Kt
+	}
+	want := func(p, tc, rh float64) float64 {
+		c, err := atmos.CorrectWithstand(atmos.Conditions{Pressure_pa: p * 1e3, Temperature_c: tc, RelHumidity_pct: rh}, 150e3, 0.42)
+		require.NoError(t, err)
+		return c.Kt
+	}
+	assert.InDelta(t, want(100, 20, 50), kt["shot1.csv"], 1e-12)
+	assert.InDelta(t, want(100, 20, 50), kt["shot2.csv"], 1e-12)
+	assert.InDelta(t, want(95, 25, 70), kt["shot3.csv"], 1e-12, "the second reading is in force for the third shot")
+	assert.Greater(t, math.Abs(kt["shot3.csv"]-kt["shot1.csv"]), 0.01)
+
+	require.NoError(t, os.WriteFile(filepath.Join(caps, "air.csv"), []byte(logText+"2026-05-04T10:05:00Z,9x,25,70\n"), 0o644))
+	code, _, stderr = runCmd("analyze", "--quiet", "--plots", "none", "--out", filepath.Join(dir, "out2"), caps)
+	assert.Equal(t, exitUsage, code)
+	assert.Contains(t, stderr, "air.csv:4:")
+	assert.Contains(t, stderr, "not a number")
 }

@@ -7,6 +7,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -37,6 +38,12 @@ func collectFiles(args []string, outDir string) (files []input, skipped []string
 		files = append(files, input{p, ids[i]})
 	}
 	return files, skipped, err
+}
+
+// notLog leaves out the setup's air log, which a folder scan takes for a capture.
+func notLog(files []input, cfg *shot.Config) []input {
+	log, _ := filepath.Abs(cfg.AirLogFile)
+	return slices.DeleteFunc(files, func(f input) bool { p, _ := filepath.Abs(f.path); return cfg.AirLogFile != "" && p == log })
 }
 
 // outputFolder takes the folder asked for (see folder.Open), or makes a new one next to

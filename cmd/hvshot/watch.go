@@ -43,6 +43,7 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 	defer tick.Stop()
 	for {
 		list, skipped, _ := collectFiles([]string{dir}, w.out.Path)
+		list = notLog(list, w.cfg)
 		report.LeftOut(e.stderr, "watch", skipped, o.quiet, told)
 		var ready []input
 		now := time.Now()

@@ -54,13 +54,16 @@ type sources struct {
 	cur        *probe.CurrentResult
 	fld        *probe.FieldResult
 	efficiency float64
+	kt         float64 // the atmospheric correction factor the shot was judged with
 	droop_s    float64 // a divider's droop constant from its description
 	freq       *Frequency
 	advice     *circuit.Advice
 }
 
 // newSources has nothing to give: every number absent.
-func newSources() *sources { return &sources{efficiency: math.NaN(), droop_s: math.NaN()} }
+func newSources() *sources {
+	return &sources{efficiency: math.NaN(), droop_s: math.NaN(), kt: math.NaN()}
+}
 
 // from makes a column's getter: the value f takes from the result pick finds, NaN
 // when the row has no such result.
@@ -179,6 +182,8 @@ var Columns = []*Column{
 	{Key: "time_to_zero_s", Unit: "s", Kind: Number, Label: "Tz", Screen: "us", Scale: 1e6, Digits: 4, Doc: "Tz, the switching impulse's time to zero, from the true origin",
 		value: fromImpulse(func(r *impulse.Result) float64 { return r.TimeToZero_s })},
 	ColEfficiency,
+	{Key: "kt", Kind: Number, Label: "Kt", Scale: 1, Digits: 4, Doc: "the atmospheric correction factor the shot's test voltage was judged with (U0 Kt applied; the reading in force when it was fired with an air log)",
+		value: func(s *sources) float64 { return s.kt }},
 	{Key: "base_tau1_s", Unit: "s", Kind: Number, Label: "tau1", Screen: "us", Scale: 1e6, Digits: 4, Doc: "the base curve's tail time constant",
 		value: fromFit(func(r *impulse.Result) float64 { return r.Fit.Params.Tau1_s })},
 	{Key: "base_tau2_s", Unit: "s", Kind: Number, Label: "tau2", Screen: "us", Scale: 1e6, Digits: 4, Doc: "the base curve's front time constant",

@@ -47,6 +47,10 @@ type Config struct {
 	// path, for the atmospheric correction (Atmosphere); nil when not described.
 	Air       *atmos.Conditions
 	AirPath_m float64
+	// AirLog is the logged air ([atmosphere] log, read by the caller): each shot is
+	// corrected with the reading in force when it was fired (AirAt).
+	AirLog     atmos.Log
+	AirLogFile string // where it was read from
 	// Tests are the tests the series holds (the setup's [[test]] tables): their shots
 	// and how their outcomes are judged.
 	Tests []*TestPlan

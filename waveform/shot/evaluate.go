@@ -235,19 +235,22 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	}
 	nom := cfg.Nominal.For(r.Shape)
 	test := cfg.TestFor(id)
+	air, logLine := cfg.AirAt(rec.Trigger)
+	if len(cfg.AirLog) > 0 && logLine == 0 {
+		row.Warnings = append(row.Warnings, Warning{"air-unlogged", "no logged air reading before the shot was fired: the atmospheric correction uses the setup's fixed readings, if any"})
+	}
+	var corr *atmos.Correction
 	switch {
 	case test != nil && !test.Procedure.Withstand():
 		nom.Peak_v = 0 // the level varies by design: no shot is judged on it
 	case test != nil:
-		nom.Peak_v = test.Specified_v
-		if corr := test.correction(cfg.Air); corr != nil {
-			nom.Peak_v = atmos.ToApply(nom.Peak_v, *corr) // IEC 60060-1 clause 4.3: U0 Kt is applied
-		}
-	default:
-		if corr, err := cfg.Atmosphere(); err == nil && corr != nil && nom.Peak_v > 0 {
-			// a withstand test applies U0 Kt (IEC 60060-1 clause 4.3): judged against that
-			nom.Peak_v = atmos.ToApply(nom.Peak_v, *corr)
-		}
+		nom.Peak_v, corr = test.Specified_v, test.correction(air)
+	case nom.Peak_v > 0:
+		corr, _ = cfg.atmosphere(air)
+	}
+	if corr != nil {
+		// a withstand test applies U0 Kt (IEC 60060-1 clause 4.3): judged against that
+		nom.Peak_v, src.kt = atmos.ToApply(nom.Peak_v, *corr), corr.Kt
 	}
 	code, text, scaleOK := scaleSlip(r.TestVoltage_v, nom.Peak_v)
 	if code != "" {

@@ -160,21 +160,22 @@ func FindReference(name string, ids []string) int {
 }
 
 // PrepareReference finds the comparison's reference, named here or else by the setup's
-// [comparison] table, among the shots (ids, read by read(i)); a name no shot has is read
-// as a file of its own (read(-1)). Nothing named: nothing to do.
-func (c *Config) PrepareReference(name string, ids []string, read func(i int, name string) (*waveform.Record, error)) error {
+// [comparison] table, among the captures (paths, identified as Identities does) and
+// reads it with read; a name none of them has is read as a file of its own. Nothing
+// named: nothing to do.
+func (c *Config) PrepareReference(name string, paths []string, read func(path string) (*waveform.Record, error)) error {
 	if name == "" && c.Comparison != nil {
 		name = c.Comparison.Reference
 	}
 	if name == "" {
 		return nil
 	}
-	i := FindReference(name, ids)
-	id := name
-	if i >= 0 {
-		id = ids[i]
+	ids := Identities(paths)
+	file, id := name, name
+	if i := FindReference(name, ids); i >= 0 {
+		file, id = paths[i], ids[i]
 	}
-	rec, err := read(i, name)
+	rec, err := read(file)
 	if err != nil {
 		return fmt.Errorf("reference %s: %v", name, err)
 	}

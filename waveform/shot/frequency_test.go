@@ -53,7 +53,7 @@ func TestDemoWindingComparison(t *testing.T) {
 			ids = append(ids, d.File)
 		}
 	}
-	require.NoError(t, cfg.PrepareReference("", ids, func(i int, name string) (*waveform.Record, error) { return recs[ids[i]], nil }))
+	require.NoError(t, cfg.PrepareReference("", ids, func(path string) (*waveform.Record, error) { return recs[path], nil }))
 	assert.Equal(t, "winding/reduced01.csv", cfg.Comparison.RefID)
 	rowOf := func(s *shot.Shot, ch string) *shot.Row {
 		for i := range s.Rows {

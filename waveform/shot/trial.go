@@ -347,12 +347,6 @@ type applied struct {
 // judge is the test's outcome from the counted applications.
 func (p *TestPlan) judge(apps []applied, notCounted int, seen map[string]bool, cfg *Config) *TestOutcome {
 	out := &TestOutcome{TestPlan: *p, NotCounted: notCounted}
-	if p.Procedure.Withstand() {
-		out.Applied_v = p.Specified_v
-		if corr := p.correction(cfg.Air); corr != nil {
-			out.Applied_v, out.Correction = atmos.ToApply(p.Specified_v, *corr), corr
-		}
-	}
 	for n := range p.marks {
 		if !seen[n] {
 			out.Unmatched = append(out.Unmatched, n)
@@ -366,6 +360,17 @@ func (p *TestPlan) judge(apps []applied, notCounted int, seen map[string]bool, c
 		}
 		return a.order < b.order
 	})
+	// the air of the test: with a log, the reading in force at its last application
+	air := cfg.Air
+	if n := len(apps); n > 0 {
+		air, _ = cfg.AirAt(apps[n-1].fired)
+	}
+	if p.Procedure.Withstand() {
+		out.Applied_v = p.Specified_v
+		if corr := p.correction(air); corr != nil {
+			out.Applied_v, out.Correction = atmos.ToApply(p.Specified_v, *corr), corr
+		}
+	}
 	pols := []Polarity{p.Polarity}
 	if p.Polarity == "" {
 		pols = nil
@@ -407,8 +412,8 @@ func (p *TestPlan) judge(apps []applied, notCounted int, seen map[string]bool, c
 			r = outcome.Withstand(p.Procedure, string(pol), list)
 		}
 		pr := PolarityResult{Result: r}
-		if cfg.Air != nil && p.Path_m > 0 && r.Verdict == outcome.Determined {
-			if corr, err := atmos.Correct(*cfg.Air, r.U50_v, p.Path_m); err == nil {
+		if air != nil && p.Path_m > 0 && r.Verdict == outcome.Determined {
+			if corr, err := atmos.Correct(*air, r.U50_v, p.Path_m); err == nil {
 				pr.Correction, pr.U50Standard_v = &corr, atmos.ToStandard(r.U50_v, corr)
 			}
 		}
