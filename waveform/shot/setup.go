@@ -259,8 +259,8 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 		// decode errors read "toml: line N (last key "k"): message"
 		if m := reDecodeErr.FindStringSubmatch(err.Error()); m != nil {
 			line, _ := strconv.Atoi(m[1])
-			if m[2] == "channel" && strings.Contains(m[3], "destination has type slice") {
-				m[3] = "write [[channel]], with two brackets: each channel is one table of a list"
+			if (m[2] == "channel" || m[2] == "test") && strings.Contains(m[3], "destination has type slice") {
+				m[3] = fmt.Sprintf("write [[%s]], with two brackets: each %s is one table of a list", m[2], m[2])
 			}
 			return nil, &SetupError{File: file, Line: line, Key: m[2], Msg: m[3]}
 		}

@@ -156,6 +156,7 @@ func TestTestTableErrors(t *testing.T) {
 		{nom + "[[test]]\nprocedure = \"A\"\n\n[[test]]\nname = \"gap\"\nprocedure = \"up_and_down\"\nstep = \"3 us\"\n", "s.toml:9: test 2.step: s is not a unit"},
 		{nom + "[[test]]\nprocedure = \"A\"\nshots = [\"[a\"]\n", "test.shots: bad pattern"},
 		{nom + "[[test]]\nprocedure = \"A\"\ndischarge_path_m = 0\n", "test.discharge_path_m: 0"},
+		{nom + "[test]\nprocedure = \"A\"\n", "s.toml:3: test: write [[test]], with two brackets"},
 	} {
 		_, err := shot.ParseSetup([]byte(c.text), "s.toml")
 		if assert.Error(t, err, c.text) {
