@@ -243,6 +243,10 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	switch {
 	case test != nil && !test.Procedure.Withstand():
 		nom.Peak_v = 0 // the level varies by design: no shot is judged on it
+	case cfg.Comparison != nil && cfg.Comparison.RefID == id && nom.Peak_v > 0:
+		// a comparison's reference is a reduced-level impulse by design (a winding test's)
+		nom.Peak_v = 0
+		row.Warnings = append(row.Warnings, Warning{"reference-level", "the comparison's reference: its level is not judged against the nominal test voltage"})
 	case test != nil:
 		nom.Peak_v, corr = test.Specified_v, test.correction(air)
 	case nom.Peak_v > 0:
