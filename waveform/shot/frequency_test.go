@@ -1,6 +1,7 @@
 package shot_test
 
 import (
+	"slices"
 	"strings"
 	"testing"
 
@@ -114,4 +115,8 @@ func TestDemoWindingComparison(t *testing.T) {
 	_, ok := rowOf(ref, "current").Value(col("difference_peak_pct"))
 	assert.False(t, ok, "the reference is not compared with itself")
 	assert.Equal(t, "winding/reduced01.csv", rowOf(ref, "current").ComparedWith)
+	// at 60 % of the nominal by design: its shape judged, its level not
+	div := rowOf(ref, "divider")
+	assert.Equal(t, shot.Pass, div.Verdict, div.FailureNames())
+	assert.True(t, slices.ContainsFunc(div.Warnings, func(w shot.Warning) bool { return w.Code == "reference-level" }))
 }
