@@ -10,6 +10,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strings"
 	"syscall"
 	"time"
@@ -68,7 +69,7 @@ func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int 
 }
 
 func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
-	name := map[bool]string{false: "analyze", true: "watch"}[watch]
+	name := e.command[1] // analyze, watch or compare
 	if len(inputs) == 1 && inputs[0] == "-" && !watch {
 		inputs = nil
 		sc := bufio.NewScanner(e.stdin)
@@ -81,6 +82,8 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	switch {
 	case len(inputs) == 0:
 		return e.usage(name, "no captures named: give files or folders (or - and a list on stdin)")
+	case name == "compare" && o.reference == "" && len(inputs) < 2:
+		return e.usage(name, "give the reference and at least one shot to compare with it")
 	case watch && len(inputs) != 1:
 		return e.usage(name, "watch takes one folder, not %d arguments", len(inputs))
 	}
@@ -100,13 +103,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if _, _, err := configure(o, ""); err != nil {
 		return e.usage(name, "%v", err) // the flags, before any file is looked at
 	}
-	missing := 0
-	for _, in := range inputs {
-		if _, err := os.Stat(in); err != nil {
-			missing++
-		}
-	}
-	if missing == len(inputs) {
+	if !slices.ContainsFunc(inputs, func(in string) bool { _, err := os.Stat(in); return err == nil }) {
 		return e.usage(name, "no such file or folder: %s", strings.Join(inputs, ", "))
 	}
 	// the captures first: no output folder is made for a run that has nothing to read
@@ -140,7 +137,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if err != nil {
 		return e.usage(name, "%v", err)
 	}
-	if e.command[1] == "compare" && o.reference == "" && len(inputs) > 0 {
+	if name == "compare" && o.reference == "" {
 		o.reference = inputs[0] // the first file named is the reference
 	}
 	paths := make([]string, len(files))

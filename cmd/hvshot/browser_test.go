@@ -141,7 +141,7 @@ func probeWidths(ctx context.Context, t *testing.T, bin, report, what string) {
 	probe := `<script>window.addEventListener('load',function(){
 function vis(el){if(!el)return false;var r=el.getBoundingClientRect();var s=getComputedStyle(el);return r.width>50&&r.height>20&&s.visibility!=='hidden'&&s.display!=='none';}
 var svg=document.querySelector('.plot svg');
-var wide=document.documentElement.scrollWidth>window.innerWidth;
+var wide=document.documentElement.scrollWidth>document.documentElement.clientWidth;
 document.title='PROBE summary='+vis(document.getElementById('summary-table'))+' plot='+vis(svg)+' safety='+vis(document.getElementById('safety'))+' overflow='+wide;
 });</script>`
 	dir := filepath.Dir(report)

@@ -300,6 +300,16 @@ func TestJudge(t *testing.T) {
 	sw, err := ParseNominal("250/2500")
 	require.NoError(t, err)
 	assert.True(t, sw.Switching())
+	for _, s := range []string{"1.2/50us", "1.2 µs/50 µs", " 1.2us / 50us "} {
+		n, err := ParseNominal(s)
+		require.NoError(t, err, s)
+		assert.InDelta(t, 1.2e-6, n.Front_s, 1e-15, s)
+		assert.InDelta(t, 50e-6, n.Tail_s, 1e-15, s)
+	}
+	_, err = ParseNominal("1.2/50ms")
+	assert.ErrorContains(t, err, "numbers of microseconds")
+	_, err = ParseNominal("50/1.2")
+	assert.ErrorContains(t, err, "tail longer than front")
 }
 
 func BenchmarkEvaluate100k(b *testing.B) {

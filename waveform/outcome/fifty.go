@@ -67,7 +67,7 @@ func UpAndDown(polarity string, apps []Application, step_v float64, switching bo
 			r.Discharges++
 		}
 	}
-	r.Levels = Group(used, apps[0].Level_v, step_v)
+	r.Levels = Group(used, gridOrigin(apps, step_v), step_v)
 	off := 0
 	for i := 1; i < len(used); i++ {
 		want := used[i-1].Level_v + step_v
@@ -126,6 +126,18 @@ func eventCount(l Level, discharges bool) int {
 	return l.Applied - l.Discharges
 }
 
+// gridOrigin places the grid of levels step apart where the applications' measured
+// levels sit on average: a grid through one shot's level would carry that shot's
+// deviation into every level.
+func gridOrigin(apps []Application, step float64) float64 {
+	o := apps[0].Level_v
+	var sum float64
+	for _, a := range apps {
+		sum += a.Level_v - o - step*math.Round((a.Level_v-o)/step)
+	}
+	return o + sum/float64(len(apps))
+}
+
 // inferStep is the median of the level changes between successive applications.
 func inferStep(apps []Application) float64 {
 	var d []float64
@@ -150,6 +162,9 @@ func MultipleLevels(polarity string, apps []Application, step_v float64, switchi
 	origin := 0.0
 	if len(apps) > 0 {
 		origin = apps[0].Level_v
+	}
+	if step_v > 0 {
+		origin = gridOrigin(apps, step_v)
 	}
 	r.Levels = Group(apps, origin, step_v)
 	for _, l := range r.Levels {

@@ -244,3 +244,24 @@ func TestGroup(t *testing.T) {
 	assert.Len(t, l, 3, "within 1 %% of each other")
 	assert.True(t, strings.HasPrefix(ErrSeparated.Error(), "the levels"))
 }
+
+// The levels' grid sits where the measured levels do on average, not on the first shot's
+// level: a first shot 0.35 kV off its nominal level moves U50 by its share of the mean
+// offset only, not by the whole 0.35 kV.
+func TestGridOrigin(t *testing.T) {
+	levels := []float64{96, 100, 104, 100, 104, 100}
+	resp := []bool{false, false, true, false, true, true}
+	var a []Application
+	for i := range levels {
+		a = append(a, Application{Level_v: levels[i] * 1e3, Discharge: resp[i]})
+	}
+	// fill to the 20 useful applications the method needs: alternate at 100/104 kV
+	for i := 0; len(a) < 22; i++ {
+		a = append(a, Application{Level_v: []float64{96e3, 100e3}[i%2], Discharge: i%2 == 1})
+	}
+	want := UpAndDown("positive", a, 4e3, false)
+	require.Equal(t, Determined, want.Verdict, want.Reason)
+	a[0].Level_v += 350 // the first shot's measured level off its nominal
+	got := UpAndDown("positive", a, 4e3, false)
+	assert.InDelta(t, want.U50_v, got.U50_v, 20, "a first level 350 V off moves U50 by its share of the mean only")
+}

@@ -55,7 +55,7 @@ h1{font-size:1.45em;margin:.2em 0}h2{font-size:1.15em;margin-top:1.8em;border-bo
 table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:.15em .4em;text-align:right;font-size:.88em;vertical-align:top}
 th{background:#f2f2f2;font-weight:600}td.l,th.l{text-align:left}
 .num{white-space:nowrap;font-variant-numeric:tabular-nums}
-table.shots{width:100%}table.shots td.l{overflow-wrap:anywhere}table.shots td.shot{min-width:7em}table.shots td.shape,table.shots td.v{white-space:nowrap;overflow-wrap:normal}
+table.shots{width:100%}table.shots td.l{overflow-wrap:anywhere}table.shots td.shot{min-width:7em}table.shots td.v{white-space:nowrap;overflow-wrap:normal}table.shots td.shape{overflow-wrap:normal}@media (max-width:900px){table.shots{font-size:.85em}}
 table.shots tbody.first tr:first-child td{border-top:2px solid #999}.shot h3,#stats-table td.l{overflow-wrap:anywhere}table.shots tr.why td{text-align:left;border-top:none;font-size:.82em;color:#444;overflow-wrap:anywhere}
 .pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}.discharge{color:var(--discharge);font-weight:bold}
 dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:.6em 0}dl.facts dt{font-weight:600}dl.facts dd{margin:0;overflow-wrap:anywhere}

@@ -267,6 +267,10 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 		return nil, &SetupError{File: file, Msg: strings.TrimPrefix(err.Error(), "toml: ")}
 	}
 	text := string(b)
+	if len(md.Keys()) == 0 {
+		// an empty file beside captures is a setup left unwritten, not one that asks for nothing
+		return nil, &SetupError{File: file, Msg: "holds no settings: fill it in (docs/setup.md) or remove it"}
+	}
 	if und := md.Undecoded(); len(und) > 0 {
 		k := und[0]
 		return nil, &SetupError{File: file, Line: keyLine(text, k), Key: k.String(), Msg: "unknown key" + keyElsewhere(k)}

@@ -157,6 +157,7 @@ func TestTestTableErrors(t *testing.T) {
 		{nom + "[[test]]\nprocedure = \"A\"\nshots = [\"[a\"]\n", "test.shots: bad pattern"},
 		{nom + "[[test]]\nprocedure = \"A\"\ndischarge_path_m = 0\n", "test.discharge_path_m: 0"},
 		{nom + "[test]\nprocedure = \"A\"\n", "s.toml:3: test: write [[test]], with two brackets"},
+		{"# nothing yet\n\n", "s.toml: holds no settings"},
 	} {
 		_, err := shot.ParseSetup([]byte(c.text), "s.toml")
 		if assert.Error(t, err, c.text) {

@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -281,6 +282,18 @@ func TestImplausibleTimeBaseWarns(t *testing.T) {
 	r = shot.Evaluate(record(t, 1.2, 5), "a.csv", shot.NewConfig()).Rows[0]
 	for _, w := range r.Warnings {
 		assert.NotEqual(t, "time-implausible", w.Code)
+	}
+	// with a nominal 1.2/50 given: microseconds or milliseconds read as seconds are
+	// incomplete, never a fail on the shape the misread times classify
+	cfg := shot.NewConfig()
+	require.NoError(t, cfg.Set("nominal", "1.2/50"))
+	for _, k := range []float64{1e3, 1e6} {
+		rec := record(t, 1.2, 5)
+		rec.Interval_s *= k
+		rec.Start_s *= k
+		r := shot.Evaluate(rec, "a.csv", cfg).Rows[0]
+		assert.Equal(t, shot.Incomplete, r.Verdict, "x%g: %v %v", k, r.FailureNames(), r.Warnings)
+		assert.True(t, slices.ContainsFunc(r.Warnings, func(w shot.Warning) bool { return w.Code == "time-implausible" }), "x%g", k)
 	}
 }
 

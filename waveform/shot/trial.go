@@ -239,8 +239,9 @@ func (p *TestPlan) mark(id string) (discharged, marked bool, name string) {
 
 // application decides a divider row's part in the test: whether it discharged (and
 // where the word came from), and whether it counts as an application, with the reason
-// when not. applied_v is the level a withstand test applies (U0, or U0 Kt).
-func (p *TestPlan) application(row *Row, r *impulse.Result, chopped bool, applied_v float64) {
+// when not; and whether the row is a withstand test's setting-up impulse (below the
+// level). applied_v is the level a withstand test applies (U0, or U0 Kt).
+func (p *TestPlan) application(row *Row, r *impulse.Result, chopped bool, applied_v float64) (settingUp bool) {
 	collapse := ""
 	if r != nil && !chopped {
 		collapse = string(r.Collapse)
@@ -283,7 +284,7 @@ func (p *TestPlan) application(row *Row, r *impulse.Result, chopped bool, applie
 		why = "its test voltage could not be measured"
 	case math.Abs(ut-applied_v) > p.LevelTol_pct/100*applied_v:
 		why = fmt.Sprintf("%.0f %% of the level applied", 100*ut/applied_v)
-		if ut < applied_v {
+		if settingUp = ut < applied_v; settingUp {
 			why += ", a setting-up impulse"
 		}
 	case discharged:
@@ -297,6 +298,7 @@ func (p *TestPlan) application(row *Row, r *impulse.Result, chopped bool, applie
 	if why != "" {
 		row.Application = "not counted: " + why
 	}
+	return settingUp
 }
 
 // TestOutcome is the test's outcome in the summary: the plan, the level applied, and
