@@ -135,6 +135,10 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	src := newSources()
 	fail := func(err error) (Row, *Curves) {
 		row.Verdict, row.Error = Error, fmt.Sprintf("%s: channel %s: %v", id, label, err)
+		if len(rec.Warnings) > 0 {
+			// what the reader saw may be why (a capture cut off mid-impulse)
+			row.Error += "; the reader warned: " + strings.Join(rec.Warnings, "; ")
+		}
 		row.fill(src)
 		return row, nil
 	}
