@@ -428,3 +428,17 @@ func TestScaleSlipHints(t *testing.T) {
 	assert.NotContains(t, codes(shot.Evaluate(record(t, 1.2, 9), "a.csv", shot.NewConfig()).Rows[0]), "ratio-missing")
 	assert.Equal(t, shot.Pass, shot.Evaluate(record(t, 1.2, 9), "a.csv", shot.NewConfig()).Rows[0].Verdict, "a right scale passes")
 }
+
+// A record cut off mid-impulse has no impulse to evaluate; its error row also says what
+// the reader warned (the cut last line), which is why.
+func TestErrorRowCarriesReaderWarnings(t *testing.T) {
+	rec := record(t, 1.2, 3)
+	n := int((4e-6 + 5e-6) / rec.Interval_s) // cut 5 us after the start of the impulse, on the crest
+	rec.Channels = rec.Channels[:1]
+	rec.Channels[0].Samples = rec.Channels[0].Samples[:n]
+	rec.Warnings = append(rec.Warnings, "line 902, the last, has no line end and is left out")
+	r := shot.Evaluate(rec, "cut.csv", shot.NewConfig()).Rows[0]
+	require.Equal(t, shot.Error, r.Verdict)
+	assert.Contains(t, r.Error, "no impulse found")
+	assert.Contains(t, r.Error, "the reader warned: line 902, the last, has no line end")
+}
