@@ -39,9 +39,11 @@ func (g GeneratorSetup) circuitOf(bad func(key, format string, a ...any) error) 
 		described = true
 		r := circuitRanges[q.key]
 		if !(q.q.V >= r[0] && q.q.V <= r[1]) {
-			unit := map[string]string{"F": "a capacitance", "ohm": "a resistance"}[q.unit]
-			return nil, bad(q.key, "%g %s is implausible here (ours: from %g to %g %s); write it with its unit, e.g. %q",
-				q.q.V, q.unit, r[0], r[1], q.unit, map[string]string{"F": "0.3 uF", "ohm": "50 ohm"}[q.unit]+" ("+unit+")")
+			hint := "a slip of unit prefix?"
+			if q.q.Unit == "" {
+				hint = fmt.Sprintf("a bare number is read in %s: write it with its unit, e.g. %q", q.unit, map[string]string{"F": "0.3 uF", "ohm": "50 ohm"}[q.unit])
+			}
+			return nil, bad(q.key, "%g %s is implausible, outside %g to %g %s where generators' values lie (ours): %s", q.q.V, q.unit, r[0], r[1], q.unit, hint)
 		}
 	}
 	if !described {
@@ -77,6 +79,9 @@ func (g GeneratorSetup) circuitOf(bad func(key, format string, a ...any) error) 
 func ParseGenerator(stages int, stageC, c1, c2, tail string) (*circuit.Generator, error) {
 	if stageC == "" && c1 == "" && c2 == "" {
 		return nil, fmt.Errorf("describe the generator: --stages and --stage-capacitance (or --capacitance), and --load")
+	}
+	if stages < 0 {
+		return nil, fmt.Errorf("--stages: a positive whole number, not %d", stages)
 	}
 	var g GeneratorSetup
 	g.Stages, g.TailResistor = stages, tail
