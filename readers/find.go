@@ -1,6 +1,7 @@
 package readers
 
 import (
+	"fmt"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -134,4 +135,26 @@ func BesideAll(paths, roots []string, name string) map[string][]string {
 		out[s] = append(out[s], p)
 	}
 	return out
+}
+
+// OneBeside is the file called name that belongs to all of paths (see BesideAll), ""
+// when none has one; paths that belong to different ones (or some to none) are an
+// error that says which uses which.
+func OneBeside(paths, roots []string, name string) (string, error) {
+	groups := BesideAll(paths, roots, name)
+	if len(groups) <= 1 {
+		for p := range groups {
+			return p, nil
+		}
+		return "", nil
+	}
+	var which []string
+	for p, used := range groups {
+		if p == "" {
+			p = "no " + name
+		}
+		which = append(which, fmt.Sprintf("%s uses %s", used[0], p))
+	}
+	sort.Strings(which)
+	return "", fmt.Errorf("the captures belong to different %s files (%s)", name, strings.Join(which, "; "))
 }

@@ -128,6 +128,19 @@ func ReadNPY(r io.Reader, file string, opt NPYOptions) (*waveform.Record, error)
 		return nil, err
 	}
 	rec := &waveform.Record{Source: file, Format: "npy", Meta: map[string]string{"npy descr": descr, "npy shape": s[1]}}
+	if len(shape) == 2 && rows <= maxChannelsAsRows && cols >= 8*rows && cols >= minRecordSamples {
+		// np.save(f, np.vstack([t, u])): a few rows of many samples are channels, not
+		// samples; read them as the columns they stand for
+		tr := make([][]float64, rows)
+		for r := range tr {
+			tr[r] = make([]float64, cols)
+			for c := range cols {
+				tr[r][c] = colv[c][r]
+			}
+		}
+		colv, rows, cols = tr, cols, rows
+		rec.Warnings = append(rec.Warnings, fmt.Sprintf("shape (%s) read as %d channels of %d samples, one per row (np.save of the transpose is the usual layout)", s[1], cols, rows))
+	}
 	first := 0
 	hasTime := opt.TimeColumn == "first" || (opt.TimeColumn != "none" && cols >= 2 && looksUniform(colv[0]))
 	if hasTime {
@@ -169,6 +182,14 @@ func ReadNPY(r io.Reader, file string, opt NPYOptions) (*waveform.Record, error)
 	}
 	return rec, nil
 }
+
+// An array of at most maxChannelsAsRows rows, each at least 8 times longer and at least
+// minRecordSamples long, holds channels in its rows (ours: no scope records 9 channels,
+// and no record is that short).
+const (
+	maxChannelsAsRows = 8
+	minRecordSamples  = 64
+)
 
 // decodeColumns reads a rows x cols array straight into its columns in one pass over
 // the data: C order deals each chunk's rows out to the columns, Fortran order decodes

@@ -73,3 +73,26 @@ func TestNPYOrders(t *testing.T) {
 	require.True(t, errors.Is(err, ErrTruncated))
 	assert.Contains(t, err.Error(), "30 of 150000000 samples present")
 }
+
+// np.save(f, np.vstack([t, u])) writes channels in rows: a few rows of many samples read
+// as the columns they stand for, with a warning; a (3, 10) array is left as rows.
+func TestNPYChannelsInRows(t *testing.T) {
+	n := 200
+	var data []float64
+	for i := 0; i < n; i++ {
+		data = append(data, float64(i)*1e-8) // row 0: time
+	}
+	for i := 0; i < n; i++ {
+		data = append(data, float64(i%7)) // row 1: the channel
+	}
+	rec, err := ReadNPY(bytes.NewReader(npyBytes("<f8", false, fmt.Sprintf("(2, %d)", n), f8(data...))), "x.npy", NPYOptions{})
+	require.NoError(t, err)
+	require.Len(t, rec.Channels, 1)
+	assert.InDelta(t, 1e-8, rec.Interval_s, 1e-20)
+	assert.Equal(t, float64(5), rec.Channels[0].Samples[12])
+	require.Len(t, rec.Warnings, 1)
+	assert.Contains(t, rec.Warnings[0], "read as 2 channels of 200 samples")
+	_, err = ReadNPY(bytes.NewReader(npyBytes("<f8", false, "(3, 10)", f8(make([]float64, 30)...))), "x.npy", NPYOptions{Interval_s: 1e-9})
+	require.Error(t, err, "a 3 x 10 array is left as 3 rows: too short to transpose on a guess")
+	assert.Contains(t, err.Error(), "3 samples")
+}

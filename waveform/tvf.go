@@ -48,6 +48,13 @@ func release(n int, f *fourier.FFT) {
 	}
 }
 
+// FFTPlan lends a cached FFT plan of length n (use a length from SmoothLen); the
+// function returned gives it back for the next caller of that length.
+func FFTPlan(n int) (*fourier.FFT, func()) {
+	f := plan(n)
+	return f, func() { release(n, f) }
+}
+
 // SmoothLen returns the smallest length >= n with no prime factor above 5; gonum's
 // FFT slows sharply on lengths with a large prime factor.
 func SmoothLen(n int) int {

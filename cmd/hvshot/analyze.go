@@ -2,17 +2,15 @@ package main
 
 import (
 	"bufio"
-	"cmp"
 	"context"
 	"encoding/csv"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"os"
 	"os/signal"
 	"path/filepath"
 	"runtime"
-	"sort"
+	"slices"
 	"strings"
 	"syscall"
 	"time"
@@ -20,6 +18,7 @@ import (
 	flag "github.com/spf13/pflag"
 
 	"github.com/hvshot/hvshot/readers"
+	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/report"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
@@ -27,16 +26,17 @@ import (
 func init() {
 	commands = append(commands,
 		&command{name: "analyze", usage: "[flags] PATH...", flags: analyzeCommand(false)},
-		&command{name: "watch", usage: "[flags] DIR", flags: analyzeCommand(true)})
+		&command{name: "watch", usage: "[flags] DIR", flags: analyzeCommand(true)},
+		&command{name: "compare", usage: "[flags] REFERENCE FILE...", flags: analyzeCommand(false)})
 }
 
 type analyzeOpts struct {
-	setup, nominal, peak, out, format, plots, overOver, stages, charging string
-	jobs                                                                 int
-	quiet, force, chopped                                                bool
-	roles, coil, antenna, ratios                                         []string
-	read                                                                 readFlags
-	poll                                                                 time.Duration
+	setup, nominal, peak, out, format, plots, overOver, stages, charging, reference string
+	jobs                                                                            int
+	quiet, force, chopped                                                           bool
+	roles, coil, antenna, ratios                                                    []string
+	read                                                                            readFlags
+	poll                                                                            time.Duration
 }
 
 func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int {
@@ -44,6 +44,7 @@ func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int 
 		var o analyzeOpts
 		fs.StringVar(&o.setup, "setup", "", "setup `FILE` (default: "+shot.SetupFileName+" beside the captures)")
 		fs.StringVar(&o.nominal, "nominal", "", "nominal shape front/tail in us, e.g. 1.2/50 or 250/2500 (default: the standard shape of the family found) (`SHAPE`)")
+		fs.StringVar(&o.reference, "reference", "", "compare every shot with this one, a shot's identity or file: scaled difference, transfer function (`SHOT`)")
 		fs.StringVar(&o.peak, "peak", "", "nominal test voltage, e.g. 300kV (`VOLTAGE`)")
 		fs.BoolVar(&o.chopped, "chopped", false, "chopped impulses are intended: a full impulse fails on shape, a chopped one does not")
 		fs.StringSliceVar(&o.ratios, "ratio", nil, "divider ratio for every divider channel (1000), or for one channel (CH1=1000) (`RATIO`)")
@@ -68,7 +69,7 @@ func analyzeCommand(watch bool) func(fs *flag.FlagSet) func([]string, *env) int 
 }
 
 func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
-	name := map[bool]string{false: "analyze", true: "watch"}[watch]
+	name := e.command[1] // analyze, watch or compare
 	if len(inputs) == 1 && inputs[0] == "-" && !watch {
 		inputs = nil
 		sc := bufio.NewScanner(e.stdin)
@@ -81,6 +82,8 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	switch {
 	case len(inputs) == 0:
 		return e.usage(name, "no captures named: give files or folders (or - and a list on stdin)")
+	case name == "compare" && o.reference == "" && len(inputs) < 2:
+		return e.usage(name, "give the reference and at least one shot to compare with it")
 	case watch && len(inputs) != 1:
 		return e.usage(name, "watch takes one folder, not %d arguments", len(inputs))
 	}
@@ -100,13 +103,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if _, _, err := configure(o, ""); err != nil {
 		return e.usage(name, "%v", err) // the flags, before any file is looked at
 	}
-	missing := 0
-	for _, in := range inputs {
-		if _, err := os.Stat(in); err != nil {
-			missing++
-		}
-	}
-	if missing == len(inputs) {
+	if !slices.ContainsFunc(inputs, func(in string) bool { _, err := os.Stat(in); return err == nil }) {
 		return e.usage(name, "no such file or folder: %s", strings.Join(inputs, ", "))
 	}
 	// the captures first: no output folder is made for a run that has nothing to read
@@ -120,7 +117,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		if files, skipped, err = collectFiles(inputs, o.out); err != nil {
 			return e.fail(name, err)
 		}
-		tellLeftOut(e, name, skipped, o.quiet, map[string]bool{})
+		report.LeftOut(e.stderr, name, skipped, o.quiet, map[string]bool{})
 		if len(files) == 0 {
 			return e.fail(name, fmt.Errorf("no captures found in %s", strings.Join(inputs, ", ")))
 		}
@@ -129,12 +126,25 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 		}
 	}
 	cfg, rd, err := configure(o, setup)
+	if err == nil {
+		files = notLog(files, cfg)
+	}
 	var se *shot.SetupError
 	if errors.As(err, &se) {
 		fmt.Fprintf(e.stderr, "hvshot %s: %v\nThe setup file's keys and units are in docs/setup.md.\n", name, err)
 		return exitUsage
 	}
 	if err != nil {
+		return e.usage(name, "%v", err)
+	}
+	if name == "compare" && o.reference == "" {
+		o.reference = inputs[0] // the first file named is the reference
+	}
+	paths := make([]string, len(files))
+	for i := range files {
+		paths[i] = files[i].path
+	}
+	if err := cfg.PrepareReference(o.reference, paths, func(p string) (*waveform.Record, error) { return readers.ReadFile(p, rd) }); err != nil {
 		return e.usage(name, "%v", err)
 	}
 	out, err := outputFolder(o.out, inputs, o.force)
@@ -148,7 +158,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	if watch {
 		return watchDir(ctx, inputs[0], w, o, e)
 	}
-	series := shot.NewSeries(cfg.Series)
+	series := shot.NewSeries(cfg.Series).Judging(cfg)
 	var rows []shot.Row
 	var traces []shot.Trace
 	lost := false // a plot that could not be written: a warning on its row, and exit 2
@@ -163,7 +173,7 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 			lost = lost || s.PlotsLost()
 			rows, traces = append(rows, s.Rows...), append(traces, s.Traces...)
 			if o.format != "table" {
-				printRows(e, o.format, csvOut, s.Rows)
+				report.StreamRows(e.stdout, o.format, csvOut, s.Rows)
 			}
 		}
 		prog.Step(i + 1)
@@ -191,24 +201,10 @@ func analyze(o *analyzeOpts, inputs []string, e *env, watch bool) int {
 	return exitStatus(sum)
 }
 
-// printRows streams finished rows to stdout as csv, jsonl or table lines.
-func printRows(e *env, format string, w *csv.Writer, rows []shot.Row) {
-	for i := range rows {
-		switch format {
-		case "jsonl":
-			b, _ := json.Marshal(&rows[i])
-			e.stdout.Write(append(b, '\n'))
-		case "csv":
-			w.Write(rows[i].CSVRecord())
-		case "table": // a row at a time, as watch prints them
-			fmt.Fprintln(e.stdout, report.Line(&rows[i]))
-		}
-	}
-	w.Flush()
-}
-
 func exitStatus(s shot.Summary) int {
 	switch {
+	case s.TestFailed():
+		return exitTestFailed
 	case s.Errors > 0:
 		return exitFileErrors
 	case s.Fail > 0 || s.Incomplete > 0:
@@ -217,74 +213,59 @@ func exitStatus(s shot.Summary) int {
 	return exitOK
 }
 
-// configure turns the setup file and the flags into the evaluation's configuration and
-// the reading options; flags override the setup file.
-// setupFor is the setup file of the captures: the one given, or the one beside them
-// all; captures that belong to different ones (or some to none) are refused.
+// setupFor is the setup file of the captures: the one given, or the one beside them all.
 func setupFor(o *analyzeOpts, files []input, roots []string) (string, error) {
+	if o.setup != "" {
+		return o.setup, nil
+	}
 	paths := make([]string, len(files))
 	for i, f := range files {
 		paths[i] = f.path
 	}
-	groups := readers.BesideAll(paths, roots, shot.SetupFileName)
-	if o.setup != "" || len(groups) <= 1 {
-		for p := range groups {
-			return cmp.Or(o.setup, p), nil
-		}
-		return o.setup, nil
+	p, err := readers.OneBeside(paths, roots, shot.SetupFileName)
+	if err != nil {
+		return "", fmt.Errorf("%v: analyze each series on its own, or give --setup", err)
 	}
-	var which []string
-	for p, used := range groups {
-		which = append(which, fmt.Sprintf("%s uses %s", used[0], cmp.Or(p, "no setup file")))
-	}
-	sort.Strings(which)
-	return "", fmt.Errorf("the captures belong to different setup files (%s): analyze each series on its own, or give --setup", strings.Join(which, "; "))
+	return p, nil
 }
 
+// configure turns the setup file and the flags into the evaluation's configuration and
+// the reading options; flags override the setup file.
 func configure(o *analyzeOpts, path string) (*shot.Config, readers.Options, error) {
 	rd, err := o.read.options()
 	if err != nil {
 		return nil, rd, err
 	}
-	cfg := shot.NewConfig()
+	var s *shot.Setup
 	if path != "" {
 		b, err := os.ReadFile(path)
 		if err != nil {
 			return nil, rd, fmt.Errorf("--setup: %v", err)
 		}
-		s, err := shot.ParseSetup(b, path)
-		if err != nil {
+		if s, err = shot.ParseSetup(b, path); err != nil {
 			return nil, rd, err
 		}
-		cfg = shot.FromSetup(s)
-		if s.Read.Interval.Set {
-			rd.DefaultInterval_s = s.Read.Interval.V // for files that state none; --interval replaces a file's own
-		}
-		if s.Read.TimeColumn != "" && rd.TimeColumn == "auto" {
-			rd.TimeColumn = s.Read.TimeColumn
-		}
+		rd = s.Read.Apply(rd)
 	}
-	for _, set := range []struct{ flag, key, value string }{{"nominal", "nominal", o.nominal}, {"peak", "peak", o.peak},
-		{"chopped", "chopped", map[bool]string{true: "true"}[o.chopped]}, {"overshoot-over", "overshoot_over", o.overOver},
-		{"stages", "stages", o.stages}, {"charging", "charging", o.charging}} {
-		if set.value != "" {
-			if err := cfg.Set(set.key, set.value); err != nil {
-				return nil, rd, fmt.Errorf("--%s: %v", set.flag, err)
-			}
-		}
+	var over []shot.Override
+	for _, f := range [][3]string{{"nominal", "nominal", o.nominal}, {"peak", "peak", o.peak}, {"chopped", "chopped", map[bool]string{true: "true"}[o.chopped]},
+		{"overshoot-over", "overshoot_over", o.overOver}, {"stages", "stages", o.stages}, {"charging", "charging", o.charging}} {
+		over = append(over, shot.Override{Blame: "--" + f[0] + ": ", Key: f[1], Value: f[2]})
 	}
 	for _, r := range o.ratios {
-		if err := cfg.Set("ratio", r); err != nil {
-			return nil, rd, fmt.Errorf("--ratio %v", err)
+		over = append(over, shot.Override{Blame: "--ratio ", Key: "ratio", Value: r})
+	}
+	cfg, err := shot.Configure(s, over, o.roles, o.coil, o.antenna)
+	if err == nil && s != nil && s.Atmosphere != nil && s.Atmosphere.Log != "" {
+		p := s.Atmosphere.Log
+		if !filepath.IsAbs(p) {
+			p = filepath.Join(filepath.Dir(path), p) // beside the setup file
+		}
+		var f *os.File
+		if f, err = os.Open(p); err == nil {
+			err = cfg.ReadAirLog(f, p)
+			f.Close()
 		}
 	}
-	for _, r := range o.roles {
-		if err := cfg.AddRole(r, strings.Join(o.coil, ","), strings.Join(o.antenna, ",")); err != nil {
-			return nil, rd, fmt.Errorf("--role %v", err)
-		}
-	}
-	if err := cfg.Check(len(o.coil) > 0, len(o.antenna) > 0); err != nil {
-		return nil, rd, err
-	}
-	return cfg, rd, nil
+	return cfg, rd, err
 }

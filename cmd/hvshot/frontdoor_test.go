@@ -273,7 +273,7 @@ func TestSetupFilesBelongToTheirCaptures(t *testing.T) {
 	for _, args := range [][]string{{filepath.Join(dir, "series")}, {filepath.Join(day1, "low.csv"), filepath.Join(day2, "a.csv")}, {filepath.Join(day2, "a.csv"), filepath.Join(day1, "low.csv")}} {
 		code, _, stderr := runCmd(append([]string{"analyze", "--quiet", "--plots", "none"}, args...)...)
 		assert.Equal(t, exitUsage, code, args)
-		assert.Contains(t, stderr, "different setup files", args)
+		assert.Contains(t, stderr, "different hvshot.toml files", args)
 	}
 	// each day on its own: day1's setup for day1
 	code, out, stderr := runCmd("analyze", "--quiet", "--plots", "none", "--format", "jsonl", "--out", filepath.Join(dir, "o1"), day1)

@@ -29,13 +29,15 @@ const (
 	exitOK          = 0
 	exitOutOfTol    = 1
 	exitFileErrors  = 2
+	exitTestFailed  = 3
 	exitUsage       = 64
 	exitInterrupted = 130
 )
 
 const exitText = `exit status: 0 all shots evaluated and within tolerance, 1 some shot out of tolerance
-or incomplete, 2 some file could not be read or evaluated, 64 usage error, 130
-interrupted (what was done is written).`
+or incomplete, 2 some file could not be read or evaluated, 3 the withstand test the
+setup describes failed (before 1 and 2), 64 usage error, 130 interrupted (what was
+done is written).`
 
 // command is a subcommand: its flags and what it does with the arguments; its help
 // text is help/NAME.txt.

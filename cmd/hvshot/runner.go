@@ -7,6 +7,7 @@ import (
 	"io/fs"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -39,17 +40,10 @@ func collectFiles(args []string, outDir string) (files []input, skipped []string
 	return files, skipped, err
 }
 
-// tellLeftOut names on stderr, each once, what a folder scan left out.
-func tellLeftOut(e *env, name string, skipped []string, quiet bool, told map[string]bool) {
-	var fresh []string
-	for _, s := range skipped {
-		if !told[s] && !quiet {
-			told[s], fresh = true, append(fresh, s)
-		}
-	}
-	if len(fresh) > 0 {
-		fmt.Fprintf(e.stderr, "hvshot %s: left out %d (not captures): %s\n", name, len(fresh), strings.Join(fresh, ", "))
-	}
+// notLog leaves out the setup's air log, which a folder scan takes for a capture.
+func notLog(files []input, cfg *shot.Config) []input {
+	log, _ := filepath.Abs(cfg.AirLogFile)
+	return slices.DeleteFunc(files, func(f input) bool { p, _ := filepath.Abs(f.path); return cfg.AirLogFile != "" && p == log })
 }
 
 // outputFolder takes the folder asked for (see folder.Open), or makes a new one next to

@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"time"
 
+	"github.com/hvshot/hvshot/waveform/report"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -42,7 +43,8 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 	defer tick.Stop()
 	for {
 		list, skipped, _ := collectFiles([]string{dir}, w.out.Path)
-		tellLeftOut(e, "watch", skipped, o.quiet, told)
+		list = notLog(list, w.cfg)
+		report.LeftOut(e.stderr, "watch", skipped, o.quiet, told)
 		var ready []input
 		now := time.Now()
 		for _, in := range list {
@@ -75,11 +77,11 @@ func watchDir(ctx context.Context, dir string, w *worker, o *analyzeOpts, e *env
 			}
 			shots[in.path] = got
 			for _, sh := range got {
-				printRows(e, o.format, csvOut, sh.Rows)
+				report.StreamRows(e.stdout, o.format, csvOut, sh.Rows)
 			}
 		})
 		if changed {
-			series := shot.NewSeries(w.cfg.Series)
+			series := shot.NewSeries(w.cfg.Series).Judging(w.cfg)
 			var rows []shot.Row
 			var traces []shot.Trace
 			for _, p := range order {

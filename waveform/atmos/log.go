@@ -26,13 +26,17 @@ var (
 // LogError is a log that cannot be read, with its place: Line and Column are 1-based
 // (Column counts bytes) and 0 when they do not apply.
 type LogError struct {
+	File         string // set by the caller who knows it; "atmos log" when empty
 	Line, Column int
 	Err          error
 	Detail       string
 }
 
 func (e *LogError) Error() string {
-	s := "atmos log"
+	s := e.File
+	if s == "" {
+		s = "atmos log"
+	}
 	if e.Line > 0 {
 		s += fmt.Sprintf(":%d", e.Line)
 		if e.Column > 0 {

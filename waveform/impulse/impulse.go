@@ -9,6 +9,15 @@ import (
 	"github.com/hvshot/hvshot/waveform"
 )
 
+// Collapse is where on the impulse the voltage collapsed.
+type Collapse string
+
+const (
+	CollapseFront Collapse = "front" // before the extreme
+	CollapseCrest Collapse = "crest" // at 90 % of the extreme or above, after it
+	CollapseTail  Collapse = "tail"  // lower, on the tail
+)
+
 // Shape is the class of an impulse.
 type Shape string
 
@@ -101,7 +110,10 @@ type Result struct {
 	ChopInstant_s float64
 	// FrontChopped: chopped on the front, judged by its own quantities (time to
 	// chopping, voltage at chopping, steepness), not by a full impulse's T1 and overshoot.
-	FrontChopped      bool
+	FrontChopped bool
+	// Collapse is where the voltage collapsed, whatever the shape (a chopped impulse's
+	// chop, or a disruptive discharge during a switching impulse); "" when it did not.
+	Collapse          Collapse
 	Steepness_v_per_s float64 // front-chopped: the voltage at chopping over the time to chopping (from memory)
 	// DriftUt_pct, DriftT2_pct: how far the baseline's trend moves Ut and T2, in percent,
 	// when it reaches DriftMax of Ue at the 50 % point; NaN otherwise.
@@ -270,6 +282,24 @@ func evaluate(x []float64, t0, dt float64, s Settings, prior *Result, work *Work
 	if chopAt >= 0 && shape == LightningFull && prior == nil {
 		shape = LightningChopped
 	}
+	if chopAt >= 0 {
+		// where a collapse fell, for a disruptive discharge's record (our convention):
+		// on the front when the curve still rises steeply into the extreme the collapse
+		// follows at once (as for a front-chopped impulse below), else within 10 % of
+		// the extreme, or lower on the tail
+		k := max(2, w/4)
+		switch {
+		case chopAt <= ip+1 && ip >= k && y[ip]-y[ip-k] > 0.02*ue:
+			r.Collapse = CollapseFront
+		case y[chopAt] >= 0.9*ue:
+			r.Collapse = CollapseCrest
+		default:
+			r.Collapse = CollapseTail
+		}
+	}
+	if prior != nil {
+		r.Collapse = prior.Collapse
+	}
 	if s.ForceShape != "" && prior == nil {
 		shape = s.ForceShape
 	}
@@ -290,6 +320,9 @@ func evaluate(x []float64, t0, dt float64, s Settings, prior *Result, work *Work
 		r.FrontChopped = ip >= k && onset-ip <= k && y[ip]-y[ip-k] > 0.02*ue
 		if prior != nil {
 			r.FrontChopped = prior.FrontChopped
+		}
+		if r.FrontChopped {
+			r.Collapse = CollapseFront
 		}
 	}
 	end := n

@@ -300,6 +300,16 @@ func TestJudge(t *testing.T) {
 	sw, err := ParseNominal("250/2500")
 	require.NoError(t, err)
 	assert.True(t, sw.Switching())
+	for _, s := range []string{"1.2/50us", "1.2 µs/50 µs", " 1.2us / 50us "} {
+		n, err := ParseNominal(s)
+		require.NoError(t, err, s)
+		assert.InDelta(t, 1.2e-6, n.Front_s, 1e-15, s)
+		assert.InDelta(t, 50e-6, n.Tail_s, 1e-15, s)
+	}
+	_, err = ParseNominal("1.2/50ms")
+	assert.ErrorContains(t, err, "numbers of microseconds")
+	_, err = ParseNominal("50/1.2")
+	assert.ErrorContains(t, err, "tail longer than front")
 }
 
 func BenchmarkEvaluate100k(b *testing.B) {
@@ -441,5 +451,41 @@ func TestDriftJudgedWhereItActs(t *testing.T) {
 	require.NoError(t, err)
 	for _, w := range r.Warnings {
 		assert.NotEqual(t, "baseline-drift", w.Code, "no drift, no warning")
+	}
+}
+
+// Where a collapse falls, for a disruptive discharge's record: on the front, at the crest
+// (90 % of the extreme or above, after it) or on the tail (our convention), for lightning
+// and switching shapes (the handbook's double exponentials of impulse_refs.py), and
+// nowhere on an impulse that does not collapse.
+func TestCollapseWhere(t *testing.T) {
+	refs, _ := loadRefs(t)
+	for _, c := range []struct {
+		shape  string
+		dt, at float64 // collapse instant after the start
+		want   Collapse
+	}{
+		{"handbook-lightning", 2e-9, 0.8e-6, CollapseFront},
+		{"handbook-lightning", 2e-9, 3e-6, CollapseCrest},
+		{"handbook-lightning", 2e-9, 20e-6, CollapseTail},
+		{"handbook-lightning", 2e-9, 0, ""},
+		{"handbook-switching", 100e-9, 150e-6, CollapseFront},
+		{"handbook-switching", 100e-9, 600e-6, CollapseCrest},
+		{"handbook-switching", 100e-9, 2000e-6, CollapseTail},
+		{"handbook-switching", 100e-9, 0, ""},
+	} {
+		hb, ok := refs[c.shape]
+		require.True(t, ok, c.shape)
+		n := 60000
+		td := 2000 * c.dt
+		x := record(hb.Tau1, hb.Tau2, 300e3, td, c.dt, n, 0, 1)
+		if c.at > 0 {
+			for i := int((td + c.at) / c.dt); i < n; i++ {
+				x[i] = 0
+			}
+		}
+		r, err := Evaluate(x, 0, c.dt, DefaultSettings())
+		require.NoError(t, err, "%s at %g", c.shape, c.at)
+		assert.Equal(t, c.want, r.Collapse, "%s collapsed at %g s", c.shape, c.at)
 	}
 }

@@ -71,6 +71,17 @@ func dexp(tau1, tau2, peak, td, dt float64, n int, noise float64, seed uint64) [
 
 // SelfCheck evaluates the built-in reference set (docs/selfcheck.md) and compares each
 // parameter with its reference value, computed outside hvshot, and acceptance limit.
+// Failed reports whether any check failed that is not a known miss (a known miss is
+// listed, not failed: docs/selfcheck.md).
+func Failed(lines []Check) bool {
+	for _, l := range lines {
+		if !l.OK && !l.Known {
+			return true
+		}
+	}
+	return false
+}
+
 func SelfCheck() ([]Check, error) {
 	var doc refsDoc
 	if err := json.Unmarshal(selfcheckRefs, &doc); err != nil {

@@ -62,8 +62,15 @@ func ParseNominal(s string) (Nominal, error) {
 	if len(parts) != 2 {
 		return Nominal{}, fmt.Errorf("nominal shape %q: want front/tail in microseconds, e.g. 1.2/50 or 250/2500", s)
 	}
-	f, err1 := strconv.ParseFloat(strings.TrimSpace(parts[0]), 64)
-	t, err2 := strconv.ParseFloat(strings.TrimSpace(parts[1]), 64)
+	// the unit the shape is always in may be written too: 1.2/50us, 1.2 µs/50 µs
+	us := func(p string) string {
+		return strings.TrimSpace(strings.TrimSuffix(strings.TrimSuffix(strings.TrimSpace(p), "us"), "µs"))
+	}
+	f, err1 := strconv.ParseFloat(us(parts[0]), 64)
+	t, err2 := strconv.ParseFloat(us(parts[1]), 64)
+	if err1 != nil || err2 != nil {
+		return Nominal{}, fmt.Errorf("nominal shape %q: want front/tail as numbers of microseconds, e.g. 1.2/50 or 250/2500", s)
+	}
 	if err1 != nil || err2 != nil || !(f > 0) || !(t > f) || math.IsInf(t, 0) {
 		return Nominal{}, fmt.Errorf("nominal shape %q: front and tail must be positive numbers of microseconds, tail longer than front", s)
 	}

@@ -3,6 +3,7 @@ package report
 import (
 	"bytes"
 	"encoding/base64"
+	"fmt"
 	"html/template"
 	"io"
 	"sort"
@@ -12,6 +13,7 @@ import (
 
 	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/outcome"
 	"github.com/hvshot/hvshot/waveform/shot"
 )
 
@@ -46,16 +48,16 @@ var reportTmpl = template.Must(template.New("report").Parse(`<!DOCTYPE html>
 <meta name="viewport" content="width=device-width, initial-scale=1">
 <title>{{.Title}}</title>
 <style>
-:root{--pass:#176117;--fail:#a00000;--error:#7a4b00;--measured:#33506e;--incomplete:#8a3c00}
+:root{--pass:#176117;--fail:#a00000;--error:#7a4b00;--measured:#33506e;--incomplete:#8a3c00;--discharge:#5b2a86}
 *{box-sizing:border-box}
 body{font-family:"Liberation Sans",Arial,Helvetica,system-ui,sans-serif;margin:1.5em auto;max-width:62em;color:#222;padding:0 1em;font-size:15px;line-height:1.35}
 h1{font-size:1.45em;margin:.2em 0}h2{font-size:1.15em;margin-top:1.8em;border-bottom:1px solid #bbb}h3{font-size:1.02em;margin:.2em 0}
 table{border-collapse:collapse;margin:.5em 0}td,th{border:1px solid #ccc;padding:.15em .4em;text-align:right;font-size:.88em;vertical-align:top}
 th{background:#f2f2f2;font-weight:600}td.l,th.l{text-align:left}
 .num{white-space:nowrap;font-variant-numeric:tabular-nums}
-table.shots{width:100%}table.shots td.l{overflow-wrap:anywhere}table.shots td.shot{min-width:7em}table.shots td.shape,table.shots td.v{white-space:nowrap;overflow-wrap:normal}
+table.shots{width:100%}table.shots td.l{overflow-wrap:anywhere}table.shots td.shot{min-width:7em}table.shots td.v{white-space:nowrap;overflow-wrap:normal}table.shots td.shape{overflow-wrap:normal}@media (max-width:900px){table.shots{font-size:.85em}}
 table.shots tbody.first tr:first-child td{border-top:2px solid #999}.shot h3,#stats-table td.l{overflow-wrap:anywhere}table.shots tr.why td{text-align:left;border-top:none;font-size:.82em;color:#444;overflow-wrap:anywhere}
-.pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}
+.pass{color:var(--pass);font-weight:bold}.fail{color:var(--fail);font-weight:bold}.error{color:var(--error);font-weight:bold}.measured{color:var(--measured);font-weight:bold}.incomplete{color:var(--incomplete);font-weight:bold}.discharge{color:var(--discharge);font-weight:bold}
 dl.facts{display:grid;grid-template-columns:max-content 1fr;gap:.1em 1em;margin:.6em 0}dl.facts dt{font-weight:600}dl.facts dd{margin:0;overflow-wrap:anywhere}
 .synthetic{background:#fde8e8;border:2px solid #a00000;color:#a00000;font-weight:bold;padding:.5em .8em;margin:.8em 0}
 .shot{border:1px solid #ddd;padding:.4em .8em;margin:1em 0;border-radius:4px}.charts{break-inside:avoid;margin:.5em 0}
@@ -76,7 +78,8 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{if .Synthetic}}<p class="synthetic" id="synthetic">SYNTHETIC DATA: {{.Synthetic}} made by hvshot's synthesiser or demo, not measured. This is a rehearsal, not a test record.</p>{{end}}
 <dl class="facts" id="facts">
 <dt>Outcome</dt><dd class="{{.OutcomeClass}}">{{.Outcome}}</dd>
-{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
+{{range $i, $t := .Tests}}<dt>Test outcome</dt><dd id="test-outcome-{{$i}}"><span class="{{index $.TestClass $i}}">{{index $t 0}}</span>{{range slice $t 1}}<br>{{.}}{{end}}</dd>
+{{end}}{{with .Record}}<dt>Test object</dt><dd>{{or .Object "not stated"}}{{if .ObjectID}}, {{.ObjectID}}{{end}}</dd>
 <dt>Laboratory</dt><dd>{{or .Laboratory "not stated"}}</dd>
 <dt>Operator</dt><dd>{{or .Operator "not stated"}}</dd>
 <dt>Measuring system</dt><dd>{{$.Measuring}}</dd>
@@ -102,6 +105,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 <tr><th class="l">fail</th><td class="fail">{{.Sum.Fail}}</td></tr>
 <tr><th class="l">error</th><td class="error">{{.Sum.Errors}}</td></tr>
 {{if .Sum.Incomplete}}<tr><th class="l">incomplete (compliance not shown)</th><td class="incomplete">{{.Sum.Incomplete}}</td></tr>{{end}}
+{{if .Sum.Discharge}}<tr><th class="l">disruptive discharge (in a test)</th><td class="discharge">{{.Sum.Discharge}}</td></tr>{{end}}
 {{if .Sum.Measured}}<tr><th class="l">measured (no tolerance applies)</th><td class="measured">{{.Sum.Measured}}</td></tr>{{end}}
 </table>
 {{if .Sum.Interrupted}}<p class="fail">The run was interrupted: only the shots finished before the stop are here.</p>{{end}}
@@ -118,6 +122,7 @@ pre{background:#f7f7f7;padding:.5em;overflow:auto;font-size:.8em;white-space:pre
 {{range .Rows}}<section class="shot" id="{{.Anchor}}"><h3>{{.R.File}}{{if ne .Channel "-"}} · {{.Channel}}{{end}}: <span class="{{.R.Verdict}}">{{.R.Verdict.Word}}</span></h3>
 {{if .Kind}}<p>{{.Kind}}</p>{{end}}
 {{if .Why}}<p class="{{.R.Verdict}} msg">{{.Why}}</p>{{end}}
+{{if .R.Advice}}<p class="msg" id="{{.Anchor}}-resistors">{{.R.Advice}}</p>{{end}}
 {{if .Params}}<dl class="params">{{range .Params}}<div><dt>{{.K}}</dt><dd>{{.V}}</dd></div>{{end}}</dl>{{end}}
 {{range .R.Warnings}}<p class="warn msg">warning {{.Code}}: {{.Text}}</p>{{end}}
 {{call $.Plot .R.Plot}}</section>
@@ -240,7 +245,7 @@ func HTML(w io.Writer, p Page) error {
 	for _, p := range []struct {
 		n           int
 		what, class string
-	}{{s.Fail, "out of tolerance", "fail"}, {s.Incomplete, "incomplete (compliance not shown)", "incomplete"}, {s.Errors, "not evaluated", "error"}} {
+	}{{s.Fail, "out of tolerance", "fail"}, {s.Incomplete, "incomplete (compliance not shown)", "incomplete"}, {s.Errors, "not evaluated", "error"}, {s.Discharge, "with a disruptive discharge of the test object", "discharge"}} {
 		if p.n > 0 {
 			if len(parts) == 0 {
 				class = p.class
@@ -296,12 +301,18 @@ func HTML(w io.Writer, p Page) error {
 	if s := charts.String(); strings.Contains(s, "<svg") {
 		chartsHTML = template.HTML(s[strings.Index(s, "<svg"):])
 	}
+	var tests [][]string
+	var testClasses []string
+	for _, t := range s.Tests {
+		tests, testClasses = append(tests, TestLines(t)), append(testClasses, testClass(t))
+	}
 	data := map[string]any{
 		"Charts": chartsHTML,
 		"Title":  title, "TitleCSS": titleCSS, "Sum": s, "Rows": rows, "Heads": heads, "Span": len(heads) + 4, "Stats": stats, "Version": p.Version,
 		"When": p.Made.Format("2006-01-02 15:04 MST"), "Nominal": nominal, "Tolerances": tolerances, "Outcome": outcome, "OutcomeClass": class,
 		"Over":   map[string]string{"extreme": "Ue, the extreme value", "base": "Ub, the base curve's maximum"}[cfg.Settings.OvershootOver],
 		"Safety": Safety, "Plot": plot, "Synthetic": syn, "Command": s.Command, "Ratios": ratios(cfg),
+		"Tests": tests, "TestClass": testClasses,
 	}
 	if cfg.Setup != nil {
 		data["SetupText"], data["SetupPath"] = cfg.Setup.Text, cfg.Setup.Path
@@ -355,8 +366,35 @@ func ratios(cfg *shot.Config) string {
 	return strings.Join(out, "; ")
 }
 
+// testClass is the colour of a test's headline: its worst polarity's verdict.
+func testClass(t *shot.TestOutcome) string {
+	class := "pass"
+	for _, r := range t.Results {
+		switch r.Verdict {
+		case outcome.Failed:
+			return "fail"
+		case outcome.NotDecided:
+			class = "incomplete"
+		case outcome.Determined:
+			if class == "pass" {
+				class = ""
+			}
+		}
+	}
+	return class
+}
+
 // air states the series' atmospheric correction with every factor, for the header.
 func air(cfg *shot.Config) string {
+	if cfg.Air != nil && (len(cfg.Tests) > 0 || cfg.Nominal.Peak_v == 0) {
+		c := *cfg.Air
+		h := fmt.Sprintf("h %.1f g/m³", c.AbsHumidity_g_per_m3)
+		if c.RelHumidity_pct > 0 {
+			h = fmt.Sprintf("%.0f %% relative humidity (h %.1f g/m³)", c.RelHumidity_pct, atmos.AbsoluteHumidity(c.Temperature_c, c.RelHumidity_pct))
+		}
+		return fmt.Sprintf("%.1f kPa, %.1f °C, %s: each test is corrected at its own level and discharge path, a withstand voltage as U0 Kt, a U50 as U50/Kt with Kt at U_B = U50 (Test outcome)",
+			c.Pressure_pa/1e3, c.Temperature_c, h)
+	}
 	corr, err := cfg.Atmosphere()
 	switch {
 	case err != nil:

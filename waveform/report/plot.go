@@ -89,10 +89,11 @@ func max2(a, b int) int {
 	return b
 }
 
-// save draws the plots side by side in the format and writes them to w. Two panels
-// fill an A4 page's width; PNG is drawn at twice a screen's resolution, for print.
-func save(w io.Writer, format PlotFormat, ps ...*plot.Plot) error {
-	width, height := vg.Length(len(ps))*12*vg.Centimeter, 8.5*vg.Centimeter
+// saveGrid draws rows of panels (a nil panel leaves its tile empty) in the format and
+// writes them to w. Two panels fill an A4 page's width, each row 8.5 cm high; PNG is
+// drawn at twice a screen's resolution, for print.
+func saveGrid(w io.Writer, format PlotFormat, grid [][]*plot.Plot) error {
+	width, height := vg.Length(len(grid[0]))*12*vg.Centimeter, vg.Length(len(grid))*8.5*vg.Centimeter
 	var c vg.CanvasWriterTo
 	if format == PNG {
 		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(width, height), vgimg.UseDPI(192))}
@@ -100,11 +101,16 @@ func save(w io.Writer, format PlotFormat, ps ...*plot.Plot) error {
 		c = vgsvg.New(width, height)
 	}
 	dc := draw.New(c)
-	tiles := draw.Tiles{Rows: 1, Cols: len(ps), PadX: vg.Millimeter * 6}
-	canv := plot.Align([][]*plot.Plot{ps}, tiles, dc)
-	for i, p := range ps {
-		legendAbove(p, canv[0][i])
-		p.Draw(canv[0][i])
+	tiles := draw.Tiles{Rows: len(grid), Cols: len(grid[0]), PadX: vg.Millimeter * 6, PadY: vg.Millimeter * 6}
+	canv := plot.Align(grid, tiles, dc)
+	for j, row := range grid {
+		for i, p := range row {
+			if p == nil {
+				continue
+			}
+			legendAbove(p, canv[j][i])
+			p.Draw(canv[j][i])
+		}
 	}
 	_, err := c.WriteTo(w)
 	return err
@@ -259,7 +265,7 @@ func Plot(w io.Writer, c *shot.Curves, title string, format PlotFormat) error {
 		return p
 	}
 	note := fmt.Sprintf("peak %s %s at %s µs", shot.FormatDigits(peak*scale, 4, false), unit, strconv.FormatFloat(at(ip)*1e6, 'g', 4, 64))
-	return save(w, format, panel(i0, i1, title+"\nthe event", false), panel(0, n, note+"\nwhole record", true))
+	return saveGrid(w, format, append([][]*plot.Plot{{panel(i0, i1, title+"\nthe event", false), panel(0, n, note+"\nwhole record", true)}}, extraPanels(c)...))
 }
 
 // plotImpulse draws the recorded, base and test voltage curves with the points that
@@ -364,5 +370,5 @@ func plotImpulse(w io.Writer, c *shot.Curves, title string, format PlotFormat) e
 	note := strings.Join(parts, "  ")
 	left := build(frontLo, frontHi, false, fmt.Sprintf("%s  (%s)\nfront", title, r.Shape))
 	right := build(r.Start_s, fullHi, true, note+"\nwhole impulse")
-	return save(w, format, left, right)
+	return saveGrid(w, format, append([][]*plot.Plot{{left, right}}, extraPanels(c)...))
 }

@@ -30,6 +30,7 @@ var verdictMarks = []struct {
 	{shot.Pass, color.RGBA{23, 97, 23, 255}, draw.CircleGlyph{}, "pass"},
 	{shot.Fail, color.RGBA{160, 0, 0, 255}, draw.TriangleGlyph{}, "fail"},
 	{shot.Incomplete, color.RGBA{138, 60, 0, 255}, draw.BoxGlyph{}, "incomplete"},
+	{shot.Discharge, color.RGBA{91, 42, 134, 255}, draw.CrossGlyph{}, "discharge"},
 }
 
 // SeriesCharts draws the series at a glance and writes it as SVG: the test voltage, the

@@ -1,6 +1,8 @@
 package report
 
 import (
+	"encoding/csv"
+	"encoding/json"
 	"fmt"
 	"io"
 	"sort"
@@ -45,6 +47,13 @@ func Why(r *shot.Row) string {
 		return r.Error
 	}
 	var p []string
+	if r.Discharge != "" && r.Discharge != "none" {
+		where := map[string]string{"front": "on the front", "crest": "at the crest", "tail": "on the tail"}[r.Discharge]
+		p = append(p, strings.TrimSpace("disruptive discharge "+where)+" (from the "+r.DischargeSource+")")
+	}
+	if r.Application != "" && !r.Counted {
+		p = append(p, r.Application)
+	}
 	for _, f := range r.Failures {
 		p = append(p, f.String())
 	}
@@ -102,6 +111,14 @@ func Table(w io.Writer, rows []shot.Row) {
 		fmt.Fprintln(tw, strings.Join(append(cells, r.Verdict.Word(), Why(r)), "\t"))
 	}
 	tw.Flush()
+	// the resistor advice of rows that failed on a time, each on a line of its own
+	sep := "\n"
+	for i := range rows {
+		if r := &rows[i]; r.Advice != "" {
+			fmt.Fprintf(w, "%s%s %s: %s\n", sep, r.File, dash(r.Channel), r.Advice)
+			sep = ""
+		}
+	}
 }
 
 // Line is one row on one line, for a stream of results (watch): the shot, channel,
@@ -119,6 +136,9 @@ func Line(r *shot.Row) string {
 	parts = append(parts, r.Verdict.Word())
 	if why := Why(r); why != "" {
 		parts = append(parts, why)
+	}
+	if r.Advice != "" {
+		parts = append(parts, r.Advice)
 	}
 	return strings.Join(parts, "  ")
 }
@@ -155,6 +175,9 @@ func Summary(w io.Writer, s shot.Summary) {
 		files += " (" + plural(s.Shots, "shot") + ")"
 	}
 	more := ""
+	if s.Discharge > 0 {
+		more += fmt.Sprintf(", %d with a disruptive discharge (in a test)", s.Discharge)
+	}
 	if s.Incomplete > 0 {
 		more += fmt.Sprintf(", %d incomplete (compliance not shown)", s.Incomplete)
 	}
@@ -164,6 +187,11 @@ func Summary(w io.Writer, s shot.Summary) {
 	fmt.Fprintf(w, "  %s, %s: %d pass, %d fail, %d error%s\n", files, plural(s.Rows, "channel row"), s.Pass, s.Fail, s.Errors, more)
 	if s.Interrupted {
 		fmt.Fprintln(w, "  interrupted: the rows above are the files finished before the stop")
+	}
+	for _, t := range s.Tests {
+		for _, l := range TestLines(t) {
+			fmt.Fprintln(w, "  "+l)
+		}
 	}
 	if len(s.Stats) == 0 {
 		return
@@ -182,4 +210,34 @@ func plural(n int, word string) string {
 		return "1 " + word
 	}
 	return fmt.Sprintf("%d %ss", n, word)
+}
+
+// StreamRows writes finished rows as they come: as CSV records through c (format
+// "csv"), JSON Lines ("jsonl") or table lines ("table", as watch prints them).
+func StreamRows(w io.Writer, format string, c *csv.Writer, rows []shot.Row) {
+	for i := range rows {
+		switch format {
+		case "jsonl":
+			b, _ := json.Marshal(&rows[i])
+			w.Write(append(b, '\n'))
+		case "csv":
+			c.Write(rows[i].CSVRecord())
+		case "table":
+			fmt.Fprintln(w, Line(&rows[i]))
+		}
+	}
+	c.Flush()
+}
+
+// LeftOut names on w, each once (told remembers), what a folder scan left out.
+func LeftOut(w io.Writer, command string, skipped []string, quiet bool, told map[string]bool) {
+	var fresh []string
+	for _, s := range skipped {
+		if !told[s] && !quiet {
+			told[s], fresh = true, append(fresh, s)
+		}
+	}
+	if len(fresh) > 0 {
+		fmt.Fprintf(w, "hvshot %s: left out %d (not captures): %s\n", command, len(fresh), strings.Join(fresh, ", "))
+	}
 }

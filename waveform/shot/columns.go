@@ -9,6 +9,7 @@ import (
 	"strings"
 	"time"
 
+	"github.com/hvshot/hvshot/waveform/circuit"
 	"github.com/hvshot/hvshot/waveform/impulse"
 	"github.com/hvshot/hvshot/waveform/probe"
 )
@@ -54,12 +55,17 @@ type sources struct {
 	cur        *probe.CurrentResult
 	fld        *probe.FieldResult
 	efficiency float64
-	droop_s    float64   // a divider's droop constant from its description
+	kt         float64 // the atmospheric correction factor the shot was judged with
+	droop_s    float64 // a divider's droop constant from its description
+	freq       *Frequency
+	advice     *circuit.Advice
 	u95        []float64 // expanded uncertainties by column index (uncertainty.go); nil when not evaluated
 }
 
 // newSources has nothing to give: every number absent.
-func newSources() *sources { return &sources{efficiency: math.NaN(), droop_s: math.NaN()} }
+func newSources() *sources {
+	return &sources{efficiency: math.NaN(), droop_s: math.NaN(), kt: math.NaN()}
+}
 
 // from makes a column's getter: the value f takes from the result pick finds, NaN
 // when the row has no such result.
@@ -84,6 +90,10 @@ func fromFit(f func(*impulse.Result) float64) func(*sources) float64 {
 		}
 		return f(r)
 	})
+}
+
+func fromAdvice(f func(*circuit.Advice) float64) func(*sources) float64 {
+	return from(func(s *sources) *circuit.Advice { return s.advice }, f)
 }
 
 func fromCurrent(f func(*probe.CurrentResult) float64) func(*sources) float64 {
@@ -120,7 +130,7 @@ var (
 		Stat: "peak field", Doc: "antenna or field: the field's peak", value: fromField(func(r *probe.FieldResult) float64 { return r.Peak_v_per_m })}
 	ColEfficiency = &Column{Key: "efficiency", Kind: Number, Label: "efficiency", Scale: 1, Digits: 3, Stat: "generator efficiency", Param: "test_voltage",
 		Doc: "Ut / (stages x charging voltage)", value: func(s *sources) float64 { return s.efficiency }}
-	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, or `measured` for a channel no tolerance applies to (coil, antenna, current, field)",
+	ColVerdict = &Column{Key: "verdict", Kind: Text, always: true, Label: "verdict", Doc: "`pass`, `fail`, `incomplete` (a parameter the verdict needs could not be measured: compliance not shown), `error`, `measured` for a channel no tolerance applies to (coil, antenna, current, field), or `discharge` in a test when the test object discharged and the impulse was within tolerance as far as it went",
 		text: func(r *Row) string { return string(r.Verdict) }}
 	ColFailures = &Column{Key: "failures", Kind: List, always: true, Label: "failures",
 		Doc:  "names of the parameters out of tolerance (`test_voltage`, `front_time`, `time_to_half`, `overshoot`, `time_to_peak`, `shape`); CSV: joined by `;`",
@@ -136,6 +146,12 @@ var (
 			}
 			return strings.Join(c, ";")
 		}}
+	ColDischarge = &Column{Key: "discharge", Kind: Text, Label: "discharge",
+		Doc:  "in a test (a setup's `[[test]]` table), a divider row's disruptive discharge: `front`, `crest` or `tail` where the voltage collapsed, `marked` when only the setup says so, `none`",
+		text: func(r *Row) string { return r.Discharge }}
+	ColApplication = &Column{Key: "application", Kind: Text, Label: "application",
+		Doc:  "in a test: `counted` when the shot counts as an application of the test, else `not counted: ` and why (another level, polarity or shape, an incomplete record)",
+		text: func(r *Row) string { return r.Application }}
 	ColError = &Column{Key: "error", Kind: Text, Label: "error", Doc: "text naming the file and the line or byte, when `verdict` is `error`",
 		text: func(r *Row) string { return r.Error }}
 )
@@ -168,10 +184,24 @@ var Columns = []*Column{
 	{Key: "time_to_zero_s", Unit: "s", Kind: Number, Label: "Tz", Screen: "us", Scale: 1e6, Digits: 4, Doc: "Tz, the switching impulse's time to zero, from the true origin",
 		value: fromImpulse(func(r *impulse.Result) float64 { return r.TimeToZero_s })},
 	ColEfficiency,
+	{Key: "kt", Kind: Number, Label: "Kt", Scale: 1, Digits: 4, Doc: "the atmospheric correction factor the shot's test voltage was judged with (U0 Kt applied; the reading in force when it was fired with an air log)",
+		value: func(s *sources) float64 { return s.kt }},
 	{Key: "base_tau1_s", Unit: "s", Kind: Number, Label: "tau1", Screen: "us", Scale: 1e6, Digits: 4, Doc: "the base curve's tail time constant",
 		value: fromFit(func(r *impulse.Result) float64 { return r.Fit.Params.Tau1_s })},
 	{Key: "base_tau2_s", Unit: "s", Kind: Number, Label: "tau2", Screen: "us", Scale: 1e6, Digits: 4, Doc: "the base curve's front time constant",
 		value: fromFit(func(r *impulse.Result) float64 { return r.Fit.Params.Tau2_s })},
+	{Key: "front_resistance_ohm", Unit: "ohm", Kind: Number, Label: "Rf", Screen: "ohm", Scale: 1, Digits: 4, Stat: "front resistance Rf (identified)",
+		Doc:   "the generator's effective front resistance, all stages together, identified from the base curve's tau1 and tau2 and the `[generator]` circuit (docs/method.md); full impulses only, absent when no circuit of the kind fits",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Rf_ohm })},
+	{Key: "tail_resistance_ohm", Unit: "ohm", Kind: Number, Label: "Rt", Screen: "ohm", Scale: 1, Digits: 4, Stat: "tail resistance Rt (identified)",
+		Doc:   "the generator's effective tail resistance, identified as `front_resistance_ohm` is",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Rt_ohm })},
+	{Key: "front_resistance_for_nominal_ohm", Unit: "ohm", Kind: Number, Label: "Rf for nominal", Screen: "ohm", Scale: 1, Digits: 4,
+		Doc:   "the front resistance, all stages together, that gives the nominal shape with the `[generator]` circuit (the exact two-capacitor design); absent when none does",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Design.Rf_ohm })},
+	{Key: "tail_resistance_for_nominal_ohm", Unit: "ohm", Kind: Number, Label: "Rt for nominal", Screen: "ohm", Scale: 1, Digits: 4,
+		Doc:   "the tail resistance that gives the nominal shape, as `front_resistance_for_nominal_ohm`",
+		value: fromAdvice(func(a *circuit.Advice) float64 { return a.Design.Rt_ohm })},
 	{Key: "fit_rms_v", Unit: "V", Kind: Number, Label: "fit RMS", Screen: "kV", Scale: 1e-3, Digits: 3, Doc: "the RMS of the recorded curve minus the base curve over the fit window",
 		value: fromFit(func(r *impulse.Result) float64 { return r.Fit.ResidualRMS })},
 	{Key: "residual_freq_hz", Unit: "Hz", Kind: Number, Label: "ringing", Screen: "MHz", Scale: 1e-6, Digits: 3, Doc: "the dominant frequency of the residual (an oscillation on the impulse)",
@@ -201,6 +231,22 @@ var Columns = []*Column{
 		}},
 	{Key: "droop_tau_estimated", Kind: Flag, Label: "droop estimated", Doc: "`true` when the droop time constant was estimated from the record",
 		text: func(r *Row) string { return flag(r.DroopEstimated) }},
+	{Key: "bw90_hz", Unit: "Hz", Kind: Number, Label: "BW90", Screen: "kHz", Scale: 1e-3, Digits: 4, Doc: "the frequency below which 90 % of the channel's energy lies (its signal's, the noise floor's share taken off)",
+		value: fromFreq(func(f *Frequency) float64 { return f.BW90_hz })},
+	{Key: "bw99_hz", Unit: "Hz", Kind: Number, Label: "BW99", Screen: "kHz", Scale: 1e-3, Digits: 4, Doc: "the same for 99 % of the energy",
+		value: fromFreq(func(f *Frequency) float64 { return f.BW99_hz })},
+	{Key: "compared_with", Kind: Text, Label: "compared with", Doc: "the reference shot of a comparison (`[comparison]`, `--reference`); on the reference's own rows its own identity, with no figures",
+		text: func(r *Row) string { return r.ComparedWith }},
+	{Key: "difference_peak_pct", Unit: "%", Kind: Number, Label: "diff peak", Screen: "%", Scale: 1, Digits: 2, Fixed: true, Doc: "comparison: the largest difference from the reference, scaled to its test voltage and aligned, in percent of the reference's peak",
+		value: fromFreq(func(f *Frequency) float64 { return f.DiffPeak_pct })},
+	{Key: "difference_rms_pct", Unit: "%", Kind: Number, Label: "diff RMS", Screen: "%", Scale: 1, Digits: 2, Fixed: true, Doc: "comparison: the difference's RMS over the reference's event (where it exceeds 5 % of its peak), in percent of its peak",
+		value: fromFreq(func(f *Frequency) float64 { return f.DiffRMS_pct })},
+	{Key: "difference_peak_time_s", Unit: "s", Kind: Number, Label: "diff at", Screen: "us", Scale: 1e6, Digits: 4, Doc: "comparison: when the largest difference occurs, on the reference's time base",
+		value: fromFreq(func(f *Frequency) float64 { return f.DiffTime_s })},
+	{Key: "transfer_deviation_pct", Unit: "%", Kind: Number, Label: "H dev", Screen: "%", Scale: 1, Digits: 2, Fixed: true, Doc: "comparison, the output channel's row: the largest deviation of the transfer function's magnitude |H| = |output/input| from the reference's in the band, in percent",
+		value: fromFreq(func(f *Frequency) float64 { return f.HDev_pct })},
+	{Key: "transfer_deviation_freq_hz", Unit: "Hz", Kind: Number, Label: "H dev at", Screen: "kHz", Scale: 1e-3, Digits: 4, Doc: "comparison: the frequency of that largest deviation",
+		value: fromFreq(func(f *Frequency) float64 { return f.HDevFreq_hz })},
 	{Key: "fired", Kind: Text, Label: "fired", Doc: "when the shot was fired: the trigger time the capture states, else the file's modification time (RFC 3339, UTC)",
 		text: func(r *Row) string {
 			if r.Fired.IsZero() {
@@ -210,6 +256,10 @@ var Columns = []*Column{
 		}},
 	{Key: "synthetic", Kind: Flag, Label: "synthetic", Doc: "`true` when the capture says it is synthetic (made by `hvshot synth` or the demo), not a measurement",
 		text: func(r *Row) string { return flag(r.Synthetic) }},
+	ColDischarge,
+	{Key: "discharge_source", Kind: Text, Label: "discharge from", Doc: "in a test: `record` (found on the divider channel) or `setup` (marked by hand in `[[test]]`)",
+		text: func(r *Row) string { return r.DischargeSource }},
+	ColApplication,
 	ColVerdict, ColFailures, ColUnmeasured, ColWarnings, ColError,
 }
 
@@ -241,16 +291,27 @@ type Row struct {
 	Shape          impulse.Shape
 	Polarity       Polarity
 	DroopEstimated bool
-	Synthetic      bool      // the capture says it is synthetic: a rehearsal, not a test record
-	Fired          time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
-	Verdict        Verdict
-	Failures       []impulse.Failure
-	Unmeasured     []string // parameters the verdict needs that could not be measured
-	Warnings       []Warning
-	Error          string
+	Synthetic      bool // the capture says it is synthetic: a rehearsal, not a test record
+	// In a test (Config.Test), a divider row's disruptive discharge: where it was seen
+	// (front, crest, tail), "marked" by hand, or "none"; whether the record or the setup
+	// says so; and whether the shot counts as an application of the test.
+	Discharge, DischargeSource string
+	Application                string // "counted", or "not counted: " and why
+	Counted                    bool
+	ComparedWith               string    // the reference shot's identity, in a comparison
+	Fired                      time.Time // the trigger time the capture states, else the file's modification time; zero when unknown
+	Verdict                    Verdict
+	Failures                   []impulse.Failure
+	Unmeasured                 []string // parameters the verdict needs that could not be measured
+	Warnings                   []Warning
+	Error                      string
 	// Plot is the row's plot file relative to the output folder, set by whoever drew
 	// it; not an output key.
 	Plot string
+	// Advice is the resistor advice in words for a divider row that failed on a time
+	// parameter, when the generator's circuit is described; its numbers are columns,
+	// the sentence is not an output key.
+	Advice string
 
 	values    []float64 // by column index; NaN when absent
 	untrusted []string  // parameters measured but not to be trusted, for the statistics

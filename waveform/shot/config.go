@@ -7,7 +7,9 @@ import (
 	"strings"
 
 	"github.com/hvshot/hvshot/waveform/atmos"
+	"github.com/hvshot/hvshot/waveform/circuit"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/spectrum"
 )
 
 // Config is everything a shot's evaluation needs, fixed for a series. Start from
@@ -20,6 +22,9 @@ type Config struct {
 	Settings   impulse.Settings
 	Stages     int     // generator stages, for the efficiency; 0 when not described
 	Charging_v float64 // charging voltage per stage
+	// Circuit is the generator's discharge circuit, for the resistor columns and advice;
+	// nil when not described. Its stage count is Stages at evaluation.
+	Circuit *circuit.Generator
 
 	// Channels describe the file's channels (the setup's [[channel]] tables); a
 	// required one missing from a file is that file's error.
@@ -42,6 +47,17 @@ type Config struct {
 	// path, for the atmospheric correction (Atmosphere); nil when not described.
 	Air       *atmos.Conditions
 	AirPath_m float64
+	// AirLog is the logged air ([atmosphere] log, read by the caller): each shot is
+	// corrected with the reading in force when it was fired (AirAt).
+	AirLog     atmos.Log
+	AirLogFile string // where it was read from
+	// Tests are the tests the series holds (the setup's [[test]] tables): their shots
+	// and how their outcomes are judged.
+	Tests []*TestPlan
+	// Spectrum says how each row's spectrum is taken (zero: spectrum.DefaultSettings);
+	// Comparison, when set, compares each shot with a reference shot.
+	Spectrum   spectrum.Settings
+	Comparison *Comparison
 	// Uncertainty sets the uncertainty per parameter (uncertainty.go).
 	Uncertainty Uncertainty
 }
@@ -79,10 +95,13 @@ func FromSetup(s *Setup) *Config {
 	c.Settings.ForceShape = impulse.Shape(s.Method.Shape)
 	c.Stages = s.Generator.Stages
 	c.Charging_v = math.Abs(s.Generator.ChargingVoltage.V)
+	c.Circuit, _ = s.Generator.circuitOf(func(string, string, ...any) error { return nil }) // checked by ParseSetup
 	c.Channels = s.Channels
 	none := func(...string) int { return 0 }
 	c.Record, _ = s.record(none) // both checked by ParseSetup
 	c.Air, c.AirPath_m, _ = s.air(none)
+	c.Tests, _ = s.tests(s.Text)
+	c.Comparison = s.Comparison.comparison()
 	c.Uncertainty, _ = s.Uncertain.settings(s.Path, none)
 	return c
 }

@@ -56,6 +56,10 @@ const (
 	// (a record cut before T2, a clipped extreme): compliance is not shown, nor refuted
 	// by what could be measured.
 	Incomplete Verdict = "incomplete"
+	// Discharge: in a test, the test object discharged during the impulse, and the
+	// impulse was within tolerance as far as it went; its full shape is not there to
+	// judge. The test's outcome counts it.
+	Discharge Verdict = "discharge"
 )
 
 // Word is the verdict as screens show it.
@@ -69,6 +73,8 @@ func (v Verdict) Word() string {
 		return "MEASURED"
 	case Incomplete:
 		return "INCOMPLETE"
+	case Discharge:
+		return "DISCHARGE"
 	}
 	return "ERROR"
 }

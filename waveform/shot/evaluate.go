@@ -32,6 +32,9 @@ type Curves struct {
 	Signal              []float64 // sensor: current in A or field in V/m, signed
 	Start_s, Interval_s float64
 	Quantity, Unit      string // "current", "A" or "field", "V/m"
+
+	Spectrum *SpectrumCurve // the row's spectrum; nil when it has no curve
+	Compare  *CompareCurve  // beside the reference, in a comparison
 }
 
 // PlotFailed is the warning code of a row whose plot could not be written.
@@ -118,6 +121,7 @@ func Evaluate(rec *waveform.Record, id string, cfg *Config) *Shot {
 			}
 		}
 	}
+	frequencyDomain(s, cfg)
 	return s
 }
 
@@ -131,6 +135,10 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	src := newSources()
 	fail := func(err error) (Row, *Curves) {
 		row.Verdict, row.Error = Error, fmt.Sprintf("%s: channel %s: %v", id, label, err)
+		if len(rec.Warnings) > 0 {
+			// what the reader saw may be why (a capture cut off mid-impulse)
+			row.Error += "; the reader warned: " + strings.Join(rec.Warnings, "; ")
+		}
 		row.fill(src)
 		return row, nil
 	}
@@ -229,13 +237,31 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	row.Warnings = appendWarnings(row.Warnings, r.Warnings)
 	timeSlip := slices.ContainsFunc(row.Warnings, func(w Warning) bool { return w.Code == TimeImplausible })
 	if !timeSlip {
-		pw := impulsePlausible(r)
+		pw := impulsePlausible(r, cfg.Nominal.Tail_s)
 		row.Warnings, timeSlip = append(row.Warnings, pw...), len(pw) > 0
 	}
 	nom := cfg.Nominal.For(r.Shape)
-	if corr, err := cfg.Atmosphere(); err == nil && corr != nil && nom.Peak_v > 0 {
+	test := cfg.TestFor(id)
+	air, logLine := cfg.AirAt(rec.Trigger)
+	if len(cfg.AirLog) > 0 && logLine == 0 {
+		row.Warnings = append(row.Warnings, Warning{"air-unlogged", "no logged air reading before the shot was fired: the atmospheric correction uses the setup's fixed readings, if any"})
+	}
+	var corr *atmos.Correction
+	switch {
+	case test != nil && !test.Procedure.Withstand():
+		nom.Peak_v = 0 // the level varies by design: no shot is judged on it
+	case cfg.Comparison != nil && cfg.Comparison.RefID == id && nom.Peak_v > 0:
+		// a comparison's reference is a reduced-level impulse by design (a winding test's)
+		nom.Peak_v = 0
+		row.Warnings = append(row.Warnings, Warning{"reference-level", "the comparison's reference: its level is not judged against the nominal test voltage"})
+	case test != nil:
+		nom.Peak_v, corr = test.Specified_v, test.correction(air)
+	case nom.Peak_v > 0:
+		corr, _ = cfg.atmosphere(air)
+	}
+	if corr != nil {
 		// a withstand test applies U0 Kt (IEC 60060-1 clause 4.3): judged against that
-		nom.Peak_v = atmos.ToApply(nom.Peak_v, *corr)
+		nom.Peak_v, src.kt = atmos.ToApply(nom.Peak_v, *corr), corr.Kt
 	}
 	code, text, scaleOK := scaleSlip(r.TestVoltage_v, nom.Peak_v)
 	if code != "" {
@@ -246,7 +272,8 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	unmeasured := impulse.Unmeasured(r, nom)
 	slipped := map[string]string{}
 	if timeSlip {
-		for _, p := range []string{"front_time", "time_to_half", "time_to_peak"} {
+		// the shape is classified by the times too
+		for _, p := range []string{"front_time", "time_to_half", "time_to_peak", "shape"} {
 			slipped[p] = "the time unit looks misread"
 		}
 	}
@@ -276,6 +303,13 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 	case len(row.Unmeasured) > 0:
 		row.Verdict = Incomplete
 	}
+	// the circuit rests on the base curve's time constants: not on a curve whose times
+	// could not be measured or trusted
+	if !slices.ContainsFunc(row.untrusted, func(p string) bool { return p == "front_time" || p == "time_to_half" || p == "time_to_peak" }) {
+		if src.advice = advise(r, nom, cfg); src.advice != nil && timeFailed(row.Failures) {
+			row.Advice = src.advice.Sentence()
+		}
+	}
 	if len(row.Unmeasured) > 0 {
 		// the parameters grouped by their reason: "(the record is clipped): front_time, ..."
 		byWhy := map[string][]string{}
@@ -288,8 +322,27 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		}
 		row.Warnings = append(row.Warnings, Warning{"not-measured", "compliance not shown: " + strings.Join(why, "; ")})
 	}
-	dividerUncertainty(&row, src, recorded, droop, r, cs, cfg)
+	dividerUncertainty(&row, src, recorded, droop, r, nom, cs, cfg)
 	row.fill(src)
+	if test != nil && cs.Role == Divider {
+		settingUp := test.application(&row, r, cfg.Nominal.Chopped, nom.Peak_v)
+		// the chop is the test object's discharge, not the generator's fault; a
+		// setting-up impulse is below the level by design
+		discharged := row.Discharge != "none" && row.DischargeSource == "record"
+		row.Failures = slices.DeleteFunc(row.Failures, func(f impulse.Failure) bool {
+			return discharged && f.Parameter == "shape" || settingUp && f.Parameter == "test_voltage"
+		})
+		if len(row.Failures) == 0 && row.Verdict == Fail {
+			switch {
+			case len(row.Unmeasured) > 0:
+				row.Verdict = Incomplete
+			case discharged:
+				row.Verdict = Discharge
+			default:
+				row.Verdict = Pass
+			}
+		}
+	}
 	return row, &Curves{Impulse: r, Nominal: nom, Tolerances: cfg.Tolerances}
 }
 

@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"strconv"
+	"strings"
 
 	"github.com/hvshot/hvshot/readers"
 	"github.com/hvshot/hvshot/waveform/impulse"
@@ -86,4 +87,45 @@ func (c *Config) Check(coil, antenna bool) error {
 		}
 	}
 	return nil
+}
+
+// Override is a setting given as text (see Set), with the words its error starts with
+// (a command line's flag: "--peak: ").
+type Override struct{ Blame, Key, Value string }
+
+// Configure is the evaluation's configuration: the setup's (nil: none), then the
+// overrides that have a value, then the roles given apart from the setup ("NAME=ROLE",
+// see AddRole, with the coil's and antenna's descriptions), checked as a whole.
+func Configure(s *Setup, over []Override, roles, coil, antenna []string) (*Config, error) {
+	cfg := NewConfig()
+	if s != nil {
+		cfg = FromSetup(s)
+	}
+	for _, o := range over {
+		if o.Value == "" {
+			continue
+		}
+		if err := cfg.Set(o.Key, o.Value); err != nil {
+			return nil, fmt.Errorf("%s%v", o.Blame, err)
+		}
+	}
+	for _, r := range roles {
+		if err := cfg.AddRole(r, strings.Join(coil, ","), strings.Join(antenna, ",")); err != nil {
+			return nil, fmt.Errorf("--role %v", err)
+		}
+	}
+	return cfg, cfg.Check(len(coil) > 0, len(antenna) > 0)
+}
+
+// Apply gives the reading options what the [read] table says: an interval for files
+// that state none (an option's own interval replaces a file's), and the time column
+// when the options leave it to be found.
+func (r ReadSetup) Apply(o readers.Options) readers.Options {
+	if r.Interval.Set {
+		o.DefaultInterval_s = r.Interval.V
+	}
+	if r.TimeColumn != "" && o.TimeColumn == "auto" {
+		o.TimeColumn = r.TimeColumn
+	}
+	return o
 }

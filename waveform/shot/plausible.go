@@ -42,7 +42,11 @@ func recordPlausible(rec *waveform.Record) []Warning {
 
 // impulsePlausible warns, once, when the front or the time to half-value lies orders of
 // magnitude outside every standard family, naming the likely unit slip.
-func impulsePlausible(r *impulse.Result) []Warning {
+//
+// With a nominal shape given (nomTail_s > 0), a time to half-value 300 times the
+// nominal's or more, either way, is a slip too (ours: between the standard lightning and
+// switching shapes lies a factor 50; a unit misread is a factor 1000).
+func impulsePlausible(r *impulse.Result, nomTail_s float64) []Warning {
 	var out []string
 	check := func(name string, v, lo, hi, typical float64) {
 		if math.IsNaN(v) || (v >= lo/implausibleFactor && v <= hi*implausibleFactor) {
@@ -57,6 +61,9 @@ func impulsePlausible(r *impulse.Result) []Warning {
 	}
 	check(name, front, lf.Front_s, sf.Front_s, map[bool]float64{true: sf.Front_s, false: lf.Front_s}[r.Shape == impulse.Switching])
 	check("the time to half-value", r.TimeToHalf_s, lf.Tail_s, sf.Tail_s, map[bool]float64{true: sf.Tail_s, false: lf.Tail_s}[r.Shape == impulse.Switching])
+	if t := r.TimeToHalf_s; len(out) == 0 && nomTail_s > 0 && (t > 300*nomTail_s || t < nomTail_s/300) {
+		out = append(out, fmt.Sprintf("the time to half-value %.3g s is %.3g times the nominal %.3g s%s", t, t/nomTail_s, nomTail_s, slip(t/nomTail_s)))
+	}
 	if len(out) == 0 {
 		return nil
 	}

@@ -3,6 +3,7 @@ package shot
 import (
 	"errors"
 	"fmt"
+	"io"
 	"time"
 
 	"github.com/hvshot/hvshot/waveform/atmos"
@@ -67,6 +68,10 @@ type AtmosphereSetup struct {
 	RelHumidity_pct      *float64 `toml:"relative_humidity_pct"`
 	AbsHumidity_g_per_m3 *float64 `toml:"absolute_humidity_g_per_m3"`
 	Path_m               *float64 `toml:"discharge_path_m"`
+	// Log names a CSV log of readings by time (atmos.ReadLog), relative to the setup
+	// file: each shot takes the reading in force when it was fired, in place of the
+	// fixed readings (which may then be left out).
+	Log string `toml:"log"`
 }
 
 // atmosKeys are the table's keys by the atmos field they fill, for messages.
@@ -82,6 +87,13 @@ func (s *Setup) air(at func(k ...string) int) (*atmos.Conditions, float64, error
 	}
 	bad := func(key, format string, v ...any) error {
 		return &SetupError{File: s.Path, Line: at("atmosphere", key), Key: "atmosphere." + key, Msg: fmt.Sprintf(format, v...)}
+	}
+	if a.Log != "" && a.Pressure_kpa == nil && a.Temperature_c == nil && a.RelHumidity_pct == nil && a.AbsHumidity_g_per_m3 == nil {
+		// the log's readings only: the path is all the table must give
+		if a.Path_m == nil || !(*a.Path_m > 0 && *a.Path_m < 100) {
+			return nil, 0, bad("discharge_path_m", "the minimum discharge path in metres, above 0 and below 100, is needed with the log")
+		}
+		return nil, *a.Path_m, nil
 	}
 	for _, k := range []struct {
 		v   *float64
@@ -114,22 +126,53 @@ func (s *Setup) air(at func(k ...string) int) (*atmos.Conditions, float64, error
 	if !(*a.Path_m > 0 && *a.Path_m < 100) {
 		return nil, 0, bad("discharge_path_m", "%g: the minimum discharge path in metres, above 0 and below 100", *a.Path_m)
 	}
-	if !s.Nominal.TestVoltage.Set {
+	if !s.Nominal.TestVoltage.Set && len(s.Tests) == 0 {
 		return nil, 0, bad("pressure_kpa", "the correction is computed for a withstand test at the nominal test voltage: give [nominal] test_voltage")
 	}
 	return &c, *a.Path_m, nil
 }
 
+// ReadAirLog reads the air log of the setup's [atmosphere] table (atmos.ReadLog) into
+// AirLog; name is the file's, for the messages.
+func (c *Config) ReadAirLog(r io.Reader, name string) error {
+	log, err := atmos.ReadLog(r)
+	var le *atmos.LogError
+	if errors.As(err, &le) {
+		le.File = name
+		return le
+	}
+	if err != nil {
+		return fmt.Errorf("%s: %w", name, err)
+	}
+	c.AirLog, c.AirLogFile = log, name
+	return nil
+}
+
+// AirAt is the air when a shot was fired: the logged reading in force then (and the
+// reading's line, for a message), else the fixed readings; nil when neither is known.
+func (c *Config) AirAt(fired time.Time) (air *atmos.Conditions, logLine int) {
+	if len(c.AirLog) > 0 && !fired.IsZero() {
+		if r, ok := c.AirLog.LastBefore(fired); ok {
+			return &r.Conditions, r.Line
+		}
+	}
+	return c.Air, 0
+}
+
 // Atmosphere is the atmospheric correction of the series' withstand test at the
 // nominal test voltage (atmos.CorrectWithstand); nil when the setup describes no air.
 func (c *Config) Atmosphere() (*atmos.Correction, error) {
-	if c.Air == nil {
+	return c.atmosphere(c.Air)
+}
+
+func (c *Config) atmosphere(air *atmos.Conditions) (*atmos.Correction, error) {
+	if air == nil {
 		return nil, nil
 	}
 	if !(c.Nominal.Peak_v > 0) {
 		return nil, fmt.Errorf("the atmospheric correction needs the nominal test voltage")
 	}
-	corr, err := atmos.CorrectWithstand(*c.Air, c.Nominal.Peak_v, c.AirPath_m)
+	corr, err := atmos.CorrectWithstand(*air, c.Nominal.Peak_v, c.AirPath_m)
 	if err != nil {
 		return nil, err
 	}

@@ -7,6 +7,7 @@ import (
 
 	"github.com/hvshot/hvshot/waveform/atmos"
 	"github.com/hvshot/hvshot/waveform/impulse"
+	"github.com/hvshot/hvshot/waveform/outcome"
 )
 
 // Stat is the spread of one parameter over a series, in SI.
@@ -44,6 +45,7 @@ type Summary struct {
 	Errors      int    `json:"error"`
 	Measured    int    `json:"measured"`   // rows with no tolerance to judge (coil, antenna)
 	Incomplete  int    `json:"incomplete"` // rows whose compliance could not be shown
+	Discharge   int    `json:"discharge"`  // rows of a test where the test object discharged
 	Stats       []Stat `json:"stats"`
 	Interrupted bool   `json:"interrupted,omitempty"`
 	// Command is how the run was started, for the record (set by the caller).
@@ -56,6 +58,8 @@ type Summary struct {
 	// Atmosphere is the series' atmospheric correction (Config.Atmosphere; set by the
 	// caller).
 	Atmosphere *atmos.Correction `json:"atmosphere,omitempty"`
+	// Tests are the outcomes of the tests the setup describes (Series.Judging).
+	Tests []*TestOutcome `json:"tests,omitempty"`
 }
 
 // Series accumulates shots into a Summary without keeping them: its memory does not
@@ -66,8 +70,20 @@ type Series struct {
 	pass, fail, errors int
 	measured           int
 	incomplete         int
+	discharge          int
 	acc                map[statKey]*welford
 	first, last        time.Time
+	cfg                *Config
+	tests              []*testState // by Config.Tests
+}
+
+// testState is what a test keeps until the series ends: its counted applications, the
+// rows it left out, the hand marks met.
+type testState struct {
+	plan       *TestPlan
+	apps       []applied
+	notCounted int
+	marksSeen  map[string]bool
 }
 
 // statKey is one statistic: a column over one group of shots. Lightning and switching
@@ -116,6 +132,29 @@ func NewSeries(name string) *Series {
 	return &Series{name: name, acc: map[statKey]*welford{}}
 }
 
+// Judging makes the series judge the test cfg describes (Config.Test), if any, and
+// returns it.
+func (s *Series) Judging(cfg *Config) *Series {
+	s.cfg = cfg
+	for _, p := range cfg.Tests {
+		s.tests = append(s.tests, &testState{plan: p, marksSeen: map[string]bool{}})
+	}
+	return s
+}
+
+// testOf is the state of the test a divider row of a test belongs to.
+func (s *Series) testOf(r *Row) *testState {
+	if r.Role != Divider || r.Application == "" {
+		return nil
+	}
+	for _, t := range s.tests {
+		if t.plan.Belongs(r.File) {
+			return t
+		}
+	}
+	return nil
+}
+
 // Add counts one file's shots (one, or one a segment): their rows by verdict and their
 // values.
 func (s *Series) Add(shots ...*Shot) {
@@ -138,6 +177,18 @@ func (s *Series) add(sh *Shot) {
 				s.last = f
 			}
 		}
+		if t := s.testOf(r); t != nil {
+			if _, ok, name := t.plan.mark(r.File); ok {
+				t.marksSeen[name] = true
+			}
+			if !r.Counted {
+				t.notCounted++
+			} else {
+				ut, _ := r.Value(ColTestVoltage)
+				t.apps = append(t.apps, applied{fired: r.Fired, order: s.rows, polarity: r.Polarity, front: r.Discharge == "front",
+					switching: r.Shape == impulse.Switching, app: outcome.Application{ID: r.File, Level_v: ut, Discharge: r.Discharge != "none"}})
+			}
+		}
 		switch r.Verdict {
 		case Pass:
 			s.pass++
@@ -147,6 +198,8 @@ func (s *Series) add(sh *Shot) {
 			s.measured++
 		case Incomplete:
 			s.incomplete++
+		case Discharge:
+			s.discharge++
 		default:
 			s.errors++
 		}
@@ -166,7 +219,10 @@ func (s *Series) add(sh *Shot) {
 
 // Summary returns the series so far.
 func (s *Series) Summary() Summary {
-	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Stats: []Stat{}}
+	out := Summary{Series: s.name, Files: s.files, Shots: s.shots, Rows: s.rows, Pass: s.pass, Fail: s.fail, Errors: s.errors, Measured: s.measured, Incomplete: s.incomplete, Discharge: s.discharge, Stats: []Stat{}}
+	for _, t := range s.tests {
+		out.Tests = append(out.Tests, t.plan.judge(slices.Clone(t.apps), t.notCounted, t.marksSeen, s.cfg))
+	}
 	if !s.first.IsZero() {
 		first, last := s.first.UTC(), s.last.UTC()
 		out.FirstFired, out.LastFired = &first, &last

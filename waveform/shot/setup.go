@@ -3,6 +3,7 @@ package shot
 import (
 	"bufio"
 	"bytes"
+	"cmp"
 	"errors"
 	"fmt"
 	"math"
@@ -83,6 +84,8 @@ type Setup struct {
 	Method     MethodSetup      `toml:"method"`
 	Generator  GeneratorSetup   `toml:"generator"`
 	Uncertain  *UncertSetup     `toml:"uncertainty"`
+	Tests      []TestSetup      `toml:"test"`
+	Comparison *ComparisonSetup `toml:"comparison"`
 	Read       ReadSetup        `toml:"read"`
 	Channels   []ChannelSetup   `toml:"channel"`
 	Path       string           `toml:"-"` // where it was read from, for the report
@@ -118,6 +121,13 @@ type MethodSetup struct {
 type GeneratorSetup struct {
 	Stages          int      `toml:"stages"`
 	ChargingVoltage Quantity `toml:"charging_voltage"`
+	// The discharge circuit, for the resistor columns and advice (generator.go).
+	StageCapacitance Quantity `toml:"stage_capacitance"`
+	Capacitance      Quantity `toml:"capacitance"` // C1 as a whole, in place of stage_capacitance
+	LoadCapacitance  Quantity `toml:"load_capacitance"`
+	TailResistor     string   `toml:"tail_resistor"` // generator_side or load_side
+	FrontPerStage    Quantity `toml:"front_resistor_per_stage"`
+	TailPerStage     Quantity `toml:"tail_resistor_per_stage"`
 }
 
 // ReadSetup is the [read] table: what files may not say about themselves.
@@ -254,14 +264,18 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 		// decode errors read "toml: line N (last key "k"): message"
 		if m := reDecodeErr.FindStringSubmatch(err.Error()); m != nil {
 			line, _ := strconv.Atoi(m[1])
-			if m[2] == "channel" && strings.Contains(m[3], "destination has type slice") {
-				m[3] = "write [[channel]], with two brackets: each channel is one table of a list"
+			if (m[2] == "channel" || m[2] == "test") && strings.Contains(m[3], "destination has type slice") {
+				m[3] = fmt.Sprintf("write [[%s]], with two brackets: each %s is one table of a list", m[2], m[2])
 			}
 			return nil, &SetupError{File: file, Line: line, Key: m[2], Msg: m[3]}
 		}
 		return nil, &SetupError{File: file, Msg: strings.TrimPrefix(err.Error(), "toml: ")}
 	}
 	text := string(b)
+	if len(md.Keys()) == 0 {
+		// an empty file beside captures is a setup left unwritten, not one that asks for nothing
+		return nil, &SetupError{File: file, Msg: "holds no settings: fill it in (docs/setup.md) or remove it"}
+	}
 	if und := md.Undecoded(); len(und) > 0 {
 		k := und[0]
 		return nil, &SetupError{File: file, Line: keyLine(text, k), Key: k.String(), Msg: "unknown key" + keyElsewhere(k)}
@@ -314,8 +328,21 @@ func ParseSetup(b []byte, file string) (*Setup, error) {
 	if _, err := s.Uncertain.settings(file, at); err != nil {
 		return nil, err
 	}
+	if s.Comparison != nil {
+		if err := s.Comparison.check(at, file); err != nil {
+			return nil, err
+		}
+	}
+	if _, err := s.tests(text); err != nil {
+		return nil, err
+	}
 	if s.Generator.Stages < 0 {
 		return nil, bad(at("generator", "stages"), "generator.stages", "must be positive")
+	}
+	if _, err := s.Generator.circuitOf(func(key, format string, a ...any) error {
+		return bad(cmp.Or(at("generator", key), at("generator")), "generator."+key, format, a...)
+	}); err != nil {
+		return nil, err
 	}
 	switch s.Read.TimeColumn {
 	case "", "auto", "first", "none":

@@ -51,8 +51,8 @@ func TestSetupErrorsNameKeyAndLine(t *testing.T) {
 func TestDemoSetupParses(t *testing.T) {
 	s, err := shot.ParseSetup([]byte(synth.DemoSetup), "demo.toml")
 	require.NoError(t, err)
-	require.Len(t, s.Channels, 3)
-	assert.Equal(t, []shot.Role{shot.Divider, shot.Coil, shot.Antenna}, []shot.Role{s.Channels[0].Role, s.Channels[1].Role, s.Channels[2].Role})
+	require.Len(t, s.Channels, 4)
+	assert.Equal(t, []shot.Role{shot.Divider, shot.Coil, shot.Antenna, shot.Current}, []shot.Role{s.Channels[0].Role, s.Channels[1].Role, s.Channels[2].Role, s.Channels[3].Role})
 	c := shot.FromSetup(s)
 	assert.Equal(t, "PI-7-0042", c.Record.ObjectID)
 	assert.Equal(t, 1.5, c.Record.Uncertainty_pct)
@@ -137,4 +137,37 @@ func TestRatioAsText(t *testing.T) {
 	_, err = shot.ParseSetup([]byte("[nominal]\ntest_voltage = \"300\"\n"), "s.toml")
 	require.Error(t, err)
 	assert.Contains(t, err.Error(), "s.toml:2: nominal.test_voltage: \"300\" has no unit")
+}
+
+// The [[test]] tables: each mistake named with its line and key.
+func TestTestTableErrors(t *testing.T) {
+	nom := "[nominal]\ntest_voltage = \"300 kV\"\n"
+	for _, c := range []struct{ text, want string }{
+		{nom + "[[test]]\nprocedure = \"D\"\n", "s.toml:4: test.procedure: \"D\": A, B or C"},
+		{nom + "[[test]]\npurpose = \"withstand\"\n", "test.procedure: missing"},
+		{nom + "[[test]]\nprocedure = \"up_and_down\"\npurpose = \"withstand\"\n", "s.toml:4: test.procedure: \"up_and_down\" is not a procedure of a withstand test"},
+		{"[[test]]\nprocedure = \"B\"\n", "needs the specified test voltage"},
+		{nom + "[[test]]\nprocedure = \"B\"\npolarity = \"pos\"\n", "s.toml:5: test.polarity: \"pos\": positive or negative"},
+		{nom + "[[test]]\nprocedure = \"B\"\nlevel_tolerance_pct = 50\n", "test.level_tolerance_pct: 50"},
+		{nom + "[[test]]\nprocedure = \"up_and_down\"\nstep = \"3 us\"\n", "test.step: s is not a unit of voltage"},
+		{nom + "[[test]]\nprocedure = \"up_and_down\"\nstep = \"300 kV\"\n", "more than 20 %"},
+		{nom + "[[test]]\nprocedure = \"B\"\ndischarged = [\"a\"]\nwithstood = [\"a\"]\n", "marked both"},
+		{nom + "[[test]]\nprocedure = \"B\"\nflashovers = 2\n", "test.flashovers: unknown key"},
+		{nom + "[[test]]\nprocedure = \"A\"\n\n[[test]]\nname = \"gap\"\nprocedure = \"up_and_down\"\nstep = \"3 us\"\n", "s.toml:9: test 2.step: s is not a unit"},
+		{nom + "[[test]]\nprocedure = \"A\"\nshots = [\"[a\"]\n", "test.shots: bad pattern"},
+		{nom + "[[test]]\nprocedure = \"A\"\ndischarge_path_m = 0\n", "test.discharge_path_m: 0"},
+		{nom + "[test]\nprocedure = \"A\"\n", "s.toml:3: test: write [[test]], with two brackets"},
+		{"# nothing yet\n\n", "s.toml: holds no settings"},
+	} {
+		_, err := shot.ParseSetup([]byte(c.text), "s.toml")
+		if assert.Error(t, err, c.text) {
+			assert.Contains(t, err.Error(), c.want)
+		}
+	}
+	s, err := shot.ParseSetup([]byte("[[test]]\nprocedure = \"up_and_down\"\nstep = \"3 kV\"\n[atmosphere]\npressure_kpa = 100\ntemperature_c = 20\nrelative_humidity_pct = 40\ndischarge_path_m = 0.3\n"), "s.toml")
+	require.NoError(t, err, "a 50 %% test needs no test voltage, with the air described too")
+	cfg := shot.FromSetup(s)
+	require.Len(t, cfg.Tests, 1)
+	assert.Equal(t, "fifty_percent", cfg.Tests[0].Purpose)
+	assert.InDelta(t, 3e3, cfg.Tests[0].Step_v, 1e-9)
 }

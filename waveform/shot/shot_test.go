@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -282,6 +283,18 @@ func TestImplausibleTimeBaseWarns(t *testing.T) {
 	for _, w := range r.Warnings {
 		assert.NotEqual(t, "time-implausible", w.Code)
 	}
+	// with a nominal 1.2/50 given: microseconds or milliseconds read as seconds are
+	// incomplete, never a fail on the shape the misread times classify
+	cfg := shot.NewConfig()
+	require.NoError(t, cfg.Set("nominal", "1.2/50"))
+	for _, k := range []float64{1e3, 1e6} {
+		rec := record(t, 1.2, 5)
+		rec.Interval_s *= k
+		rec.Start_s *= k
+		r := shot.Evaluate(rec, "a.csv", cfg).Rows[0]
+		assert.Equal(t, shot.Incomplete, r.Verdict, "x%g: %v %v", k, r.FailureNames(), r.Warnings)
+		assert.True(t, slices.ContainsFunc(r.Warnings, func(w shot.Warning) bool { return w.Code == "time-implausible" }), "x%g", k)
+	}
 }
 
 // A shot whose compliance cannot be shown is incomplete: never a pass on a number that
@@ -414,4 +427,18 @@ func TestScaleSlipHints(t *testing.T) {
 	assert.Contains(t, codes(shot.Evaluate(rec, "a.csv", shot.NewConfig()).Rows[0]), "ratio-missing")
 	assert.NotContains(t, codes(shot.Evaluate(record(t, 1.2, 9), "a.csv", shot.NewConfig()).Rows[0]), "ratio-missing")
 	assert.Equal(t, shot.Pass, shot.Evaluate(record(t, 1.2, 9), "a.csv", shot.NewConfig()).Rows[0].Verdict, "a right scale passes")
+}
+
+// A record cut off mid-impulse has no impulse to evaluate; its error row also says what
+// the reader warned (the cut last line), which is why.
+func TestErrorRowCarriesReaderWarnings(t *testing.T) {
+	rec := record(t, 1.2, 3)
+	n := int((4e-6 + 5e-6) / rec.Interval_s) // cut 5 us after the start of the impulse, on the crest
+	rec.Channels = rec.Channels[:1]
+	rec.Channels[0].Samples = rec.Channels[0].Samples[:n]
+	rec.Warnings = append(rec.Warnings, "line 902, the last, has no line end and is left out")
+	r := shot.Evaluate(rec, "cut.csv", shot.NewConfig()).Rows[0]
+	require.Equal(t, shot.Error, r.Verdict)
+	assert.Contains(t, r.Error, "no impulse found")
+	assert.Contains(t, r.Error, "the reader warned: line 902, the last, has no line end")
 }

@@ -95,6 +95,9 @@ type uRule struct {
 	// input: a value that may be given rather than measured (a droop constant); it has
 	// an uncertainty only when the row says it was estimated from the record.
 	input bool
+	// setup: a value the setup alone determines (an atmospheric factor, resistors
+	// designed for the nominal shape): no uncertainty from the record, none stated.
+	setup bool
 }
 
 func fixed(c float64) func(*sources) float64 { return func(*sources) float64 { return c } }
@@ -147,6 +150,22 @@ var (
 		"peak_field_v_per_m":      {amp: 1},
 		"field_change_v_per_m":    {amp: 1},
 		"droop_tau_s":             {time: 1, input: true},
+		"kt":                      {setup: true},
+		// resistances from the base curve's time constants and the stated capacitances
+		"front_resistance_ohm":             {time: 1},
+		"tail_resistance_ohm":              {time: 1},
+		"front_resistance_for_nominal_ohm": {setup: true},
+		"tail_resistance_for_nominal_ohm":  {setup: true},
+		// the spectrum's and a comparison's numbers: the Monte Carlo does not take a
+		// spectrum a draw (docs/method.md), so they have the stated parts only when the
+		// record's part is there, which it is not: their uncertainty stays absent
+		"bw90_hz":                    {time: -1},
+		"bw99_hz":                    {time: -1},
+		"difference_peak_pct":        {},
+		"difference_rms_pct":         {},
+		"difference_peak_time_s":     {time: 1},
+		"transfer_deviation_pct":     {},
+		"transfer_deviation_freq_hz": {time: -1},
 	}
 )
 
@@ -180,13 +199,13 @@ func timeToPeakInstants(s *sources) float64 {
 
 // unitSuffix is the key ending of each unit, for the companions' keys.
 var unitSuffix = map[string]string{"V": "_v", "s": "_s", "%": "_pct", "A": "_a", "A/s": "_a_per_s", "C": "_c",
-	"A^2 s": "_a2s", "V/m": "_v_per_m", "V/s": "_v_per_s", "Hz": "_hz", "": ""}
+	"A^2 s": "_a2s", "V/m": "_v_per_m", "V/s": "_v_per_s", "Hz": "_hz", "ohm": "_ohm", "": ""}
 
 // U95Suffix marks an expanded uncertainty's key: front_time_s has front_time_u95_s.
 const U95Suffix = "_u95"
 
 // companions is the column table's expanded uncertainties, one per Number column,
-// placed before the verdict; each names its parameter in Of.
+// placed after the last of them; each names its parameter in Of.
 var companions = addCompanions()
 
 func addCompanions() []*Column {
@@ -213,7 +232,14 @@ func addCompanions() []*Column {
 			}}
 		out = append(out, u)
 	}
-	at := slices.Index(Columns, ColVerdict)
+	// after the last number, so that the parameters and their uncertainties stay
+	// together and the words that follow them keep their order
+	at := 0
+	for i, c := range Columns {
+		if c.Kind == Number {
+			at = i + 1
+		}
+	}
 	Columns = slices.Insert(Columns, at, out...)
 	return out
 }
@@ -351,7 +377,7 @@ func measureUncertainty(row *Row, src *sources, samples, centre []float64, pre i
 			continue
 		}
 		rule := ruleOf(c)
-		if rule.input && !row.DroopEstimated {
+		if rule.input && !row.DroopEstimated || rule.setup {
 			continue
 		}
 		b := uncert.Budget{Record: sp.SD[k], RecordDOF: uncert.SpreadDOF(float64(sp.N[k]-1), nz.DOF()), Scale: math.Abs(rule.amp) * scale * v, Timebase: math.Abs(rule.time) * tb * v, Reading: math.NaN()}
@@ -386,8 +412,9 @@ func measureUncertainty(row *Row, src *sources, samples, centre []float64, pre i
 }
 
 // remeasureImpulse is a divider's evaluation for the Monte Carlo: its droop undone in
-// place, r's decisions kept (impulse.Reevaluate).
-func remeasureImpulse(r *impulse.Result, droop_s float64, cfg *Config) func(x []float64) (*sources, error) {
+// place, r's decisions kept (impulse.Reevaluate), the circuit identified again when the
+// shot's was (nom its nominal).
+func remeasureImpulse(r *impulse.Result, nom impulse.Nominal, advised bool, droop_s float64, cfg *Config) func(x []float64) (*sources, error) {
 	var w impulse.Work
 	return func(x []float64) (*sources, error) {
 		if droop_s > 0 {
@@ -399,6 +426,9 @@ func remeasureImpulse(r *impulse.Result, droop_s float64, cfg *Config) func(x []
 		}
 		s := newSources()
 		s.imp = q
+		if advised {
+			s.advice = advise(q, nom, cfg)
+		}
 		if cfg.Stages > 0 && cfg.Charging_v > 0 {
 			s.efficiency = q.TestVoltage_v / (float64(cfg.Stages) * cfg.Charging_v)
 		}
@@ -411,7 +441,7 @@ func remeasureImpulse(r *impulse.Result, droop_s float64, cfg *Config) func(x []
 // need when that part measures the same, else on the whole record. The draws are
 // centred on the record without its noise (impulse.Result.Denoised) unless a droop
 // was undone, whose inverse is not at hand: then on the record itself.
-func dividerUncertainty(row *Row, src *sources, samples []float64, droop_s float64, r *impulse.Result, cs ChannelSetup, cfg *Config) {
+func dividerUncertainty(row *Row, src *sources, samples []float64, droop_s float64, r *impulse.Result, nom impulse.Nominal, cs ChannelSetup, cfg *Config) {
 	if cfg.Uncertainty.Draws <= 0 {
 		return
 	}
@@ -424,8 +454,8 @@ func dividerUncertainty(row *Row, src *sources, samples []float64, droop_s float
 		// the part must measure as the whole does, every parameter, or the whole is used
 		nums := numbers()
 		a, b := make([]float64, len(nums)), make([]float64, len(nums))
-		q, err1 := remeasureImpulse(r, droop_s, cfg)(slices.Clone(centre[:n]))
-		w, err2 := remeasureImpulse(r, droop_s, cfg)(slices.Clone(centre))
+		q, err1 := remeasureImpulse(r, nom, src.advice != nil, droop_s, cfg)(slices.Clone(centre[:n]))
+		w, err2 := remeasureImpulse(r, nom, src.advice != nil, droop_s, cfg)(slices.Clone(centre))
 		same := err1 == nil && err2 == nil
 		if same {
 			values(nums, q, a)
@@ -439,7 +469,7 @@ func dividerUncertainty(row *Row, src *sources, samples []float64, droop_s float
 		}
 	}
 	pre := min(r.Baseline.Samples, n)
-	measureUncertainty(row, src, samples, centre[:n], pre, r.Interval_s, cs, cfg, remeasureImpulse(r, droop_s, cfg))
+	measureUncertainty(row, src, samples, centre[:n], pre, r.Interval_s, cs, cfg, remeasureImpulse(r, nom, src.advice != nil, droop_s, cfg))
 }
 
 // sensorUncertainty runs measureUncertainty for a sensor channel, re-running its whole

@@ -165,7 +165,7 @@ func TestCoverage95(t *testing.T) {
 }
 
 // Every number has its expanded uncertainty, declared once by the column table: its
-// key with _u95 before the unit, in the same unit, placed before the verdict.
+// key with _u95 before the unit, in the same unit, placed after the numbers.
 func TestEveryNumberHasItsCompanion(t *testing.T) {
 	var parents, companions int
 	for _, c := range shot.Columns {
@@ -183,6 +183,7 @@ func TestEveryNumberHasItsCompanion(t *testing.T) {
 		assert.Equal(t, c.Unit, u.Unit)
 		assert.Contains(t, u.Key, shot.U95Suffix, u.Key)
 		assert.Equal(t, c.Key, strings.Replace(u.Key, shot.U95Suffix, "", 1), "the key less _u95 is the parameter's")
+		assert.Greater(t, slices.Index(shot.Columns, u), slices.Index(shot.Columns, c))
 		assert.Less(t, slices.Index(shot.Columns, u), slices.Index(shot.Columns, shot.ColVerdict))
 	}
 	assert.Equal(t, parents, companions)

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	_ "embed"
 	"fmt"
+	"math"
 	"math/rand/v2"
 
 	"github.com/hvshot/hvshot/readers"
@@ -33,7 +34,9 @@ type DemoShot struct {
 
 // Demo returns the invented demo series: good shots, a slow front, ringing, a
 // flashover chop, a clipped record, a shot with no impulse, an unreadable file, and
-// coil and antenna channels on some shots.
+// coil and antenna channels on some shots; then, in folders of their own, a withstand
+// test of the batch by procedure B, an up-and-down series on a test gap, and an
+// invented winding's reduced-level and full-level shots for a comparison.
 func Demo() []DemoShot {
 	heff, ca := probe.Whip(0.5, 0.002)
 	cl, r := 20e-12, 1e6
@@ -81,7 +84,80 @@ func Demo() []DemoShot {
 	}
 	shots = append(shots, DemoShot{File: "shot11.csv", Garbage: g})
 	add("shot12.csv", "text", base(1.19, 51.2, 150.6, 12))
-	return shots
+	shots = append(shots, demoWithstand(base)...)
+	shots = append(shots, demoGap(base)...)
+	return append(shots, demoWinding(base)...)
+}
+
+// demoWinding is an invented winding test in the same bay: a reduced-level impulse
+// (60 %), then full-level ones, the winding's current to earth recorded beside the
+// voltage. The last full-level shot meets a changed winding (one capacitance to earth
+// 5 % up, as an invented fault would leave it): its comparison with the reduced-level
+// shot flags it.
+func demoWinding(base func(front, tail, peak float64, seed uint64) Spec) []DemoShot {
+	winding := func(file string, peak float64, seed uint64, altered int) DemoShot {
+		s := base(1.2, 50, peak, seed)
+		s.Noise, s.PreTrigger_s, s.Interval_s, s.Duration_s = 0.002*150/peak, 10e-6, 20e-9, 250e-6
+		s.Winding = &Winding{Sections: 4, L_h: 0.5e-3, R_ohm: 27.5, Cg_f: 10e-9, Shunt_ohm: 0.5, Altered: altered, Factor: 1.05, Noise_a: 2.1}
+		return DemoShot{File: "winding/" + file, Format: "text", Spec: s}
+	}
+	return []DemoShot{winding("reduced01.csv", 90, 21, 0), winding("full02.csv", 150.3, 22, 0),
+		winding("full03.csv", 149.8, 23, 0), winding("full04.csv", 150.1, 24, 2)}
+}
+
+// demoWithstand is the batch's invented withstand test, procedure B at 150 kV positive
+// (applied as U0 Kt, 148.8 kV in the demo's air): two setting-up impulses at 50 and 75 %,
+// then 15 at the level, the seventh of which flashes over on the tail.
+func demoWithstand(base func(front, tail, peak float64, seed uint64) Spec) []DemoShot {
+	var out []DemoShot
+	r := rand.New(rand.NewPCG(20, 20))
+	for i := 1; i <= 17; i++ {
+		peak := 148.8 + 0.6*r.NormFloat64()
+		switch i {
+		case 1:
+			peak = 75
+		case 2:
+			peak = 112
+		}
+		s := base(1.2+0.03*r.NormFloat64(), 50+0.6*r.NormFloat64(), peak, uint64(100+i))
+		s.Duration_s = 120e-6
+		if i == 9 {
+			s.Chop_s, s.Collapse_s = 11e-6, 90e-9
+		}
+		out = append(out, DemoShot{File: fmt.Sprintf("withstand/shot%02d.csv", i), Format: "text", Spec: s})
+	}
+	return out
+}
+
+// Invented test gap: its 50 % discharge voltage and standard deviation, and the
+// up-and-down series' first level and step.
+const (
+	gapU50_kv, gapSigma_kv  = 118, 3.5
+	gapStart_kv, gapStep_kv = 106, 4
+	gapShots                = 26
+)
+
+// demoGap is an up-and-down series on the invented test gap: one impulse per level, a
+// step up after a withstand and down after a discharge; whether each discharges is drawn
+// from a normal distribution of the gap's discharge voltage, and a discharge collapses
+// the voltage near the crest or on the tail.
+func demoGap(base func(front, tail, peak float64, seed uint64) Spec) []DemoShot {
+	var out []DemoShot
+	r := rand.New(rand.NewPCG(30, 30))
+	level := float64(gapStart_kv)
+	for i := 1; i <= gapShots; i++ {
+		s := base(1.2+0.03*r.NormFloat64(), 50+0.6*r.NormFloat64(), level, uint64(200+i))
+		s.Duration_s = 120e-6
+		discharged := r.Float64() < 0.5*math.Erfc(-(level-gapU50_kv)/gapSigma_kv/math.Sqrt2)
+		if discharged {
+			s.Chop_s, s.Collapse_s = 4e-6+8e-6*r.Float64(), 60e-9
+			level -= gapStep_kv
+		} else {
+			level += gapStep_kv
+		}
+		out = append(out, DemoShot{File: fmt.Sprintf("gap/shot%02d.csv", i), Format: "text", Spec: s})
+	}
+	return out
 }
 
 // Record makes the demo shot's capture as its file holds it: the divider channel at

@@ -39,6 +39,7 @@ type Spec struct {
 
 	Coil    *Coil
 	Antenna *Antenna
+	Winding *Winding // a winding under test: its current from the applied voltage
 }
 
 // Coil is the pickup coil and the discharge current it sees.
@@ -119,6 +120,10 @@ func Generate(s Spec) (*waveform.Record, error) {
 		sign = -1
 	}
 	div := make([]float64, n)
+	var applied []float64 // the voltage before the scope's noise, for a winding
+	if s.Winding != nil {
+		applied = make([]float64, n)
+	}
 	for i := range div {
 		u := t0 + float64(i)*dt
 		v := 0.0
@@ -136,6 +141,9 @@ func Generate(s Spec) (*waveform.Record, error) {
 			}
 		}
 		div[i] = sign*v*s.Peak_v + s.Offset_v + s.Noise*s.Peak_v*rng.NormFloat64()
+		if applied != nil {
+			applied[i] = sign * v * s.Peak_v
+		}
 	}
 	ch := waveform.Channel{Name: "divider", Unit: "V", Samples: div}
 	scope(&ch, s.Range_v, s.Bits)
@@ -175,6 +183,16 @@ func Generate(s Spec) (*waveform.Record, error) {
 			v[i] += a.Noise_v * rng.NormFloat64()
 		}
 		chans = append(chans, waveform.Channel{Name: "antenna", Unit: "V", Samples: v})
+	}
+	if w := s.Winding; w != nil {
+		cur, err := w.Current(applied, dt)
+		if err != nil {
+			return nil, err
+		}
+		for i := range cur {
+			cur[i] += w.Noise_a * rng.NormFloat64()
+		}
+		chans = append(chans, waveform.Channel{Name: "current", Unit: "A", Samples: cur})
 	}
 	rec, err := waveform.NewRecord("synthetic", dt, t0, chans)
 	if err != nil {
