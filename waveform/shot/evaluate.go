@@ -217,7 +217,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 			row.Warnings = appendWarnings(row.Warnings, fld.Warnings)
 			c.Signal, c.Quantity, c.Unit = fld.Field, "field", "V/m"
 		}
-		sensorUncertainty(&row, src, recorded, droop, t0, dt, cs, cfg)
+		sensorUncertainty(&row, src, &ch, recorded, droop, t0, dt, cs, cfg)
 		row.Verdict = Measured
 		row.fill(src)
 		return row, c
@@ -322,7 +322,7 @@ func evaluateChannel(rec *waveform.Record, id string, p planned, cfg *Config) (R
 		}
 		row.Warnings = append(row.Warnings, Warning{"not-measured", "compliance not shown: " + strings.Join(why, "; ")})
 	}
-	dividerUncertainty(&row, src, recorded, droop, r, nom, cs, cfg)
+	dividerUncertainty(&row, src, &ch, recorded, droop, r, nom, cs, cfg)
 	row.fill(src)
 	if test != nil && cs.Role == Divider {
 		settingUp := test.application(&row, r, cfg.Nominal.Chopped, nom.Peak_v)

@@ -272,13 +272,14 @@ func scaleSource(cs ChannelSetup, cfg *Config) float64 {
 	return math.NaN()
 }
 
-// quantumOf is the channel's least step, in its scaled unit: from its resolution when
-// the file states bits and range, else the least step in the data.
-func quantumOf(ch *waveform.Channel) float64 {
+// quantumOf is the channel's least step, in its scaled unit (ch scaled, samples as
+// recorded and scaled): from its resolution when the file states bits and range, else
+// the least step in the data.
+func quantumOf(ch *waveform.Channel, samples []float64) float64 {
 	if ch.HasRange && ch.ADCBits > 0 && ch.ADCBits < 64 {
 		return (ch.RangeMax - ch.RangeMin) / math.Exp2(float64(ch.ADCBits))
 	}
-	return uncert.LeastStep(ch.Samples)
+	return uncert.LeastStep(samples)
 }
 
 // seedOf makes each shot's and channel's draws reproducible and their own.
@@ -340,17 +341,17 @@ func truncation(r *impulse.Result, n int, s impulse.Settings) int {
 
 // measureUncertainty fills src.u95 and row's systematic parts: the Monte Carlo over
 // the record's noise and the type B parts. The noise is modelled from samples (as
-// recorded, scaled), the draws are added to centre (the record, or its best estimate
-// without noise) and remeasure evaluates one noisy copy into src's shape. Nothing
-// when the draws are 0.
-func measureUncertainty(row *Row, src *sources, samples, centre []float64, pre int, dt float64, cs ChannelSetup, cfg *Config,
+// recorded, scaled; quantum its step), the draws are added to centre (the record, or
+// its best estimate without noise) and remeasure evaluates one noisy copy into src's
+// shape. Nothing when the draws are 0.
+func measureUncertainty(row *Row, src *sources, samples, centre []float64, quantum float64, pre int, dt float64, cs ChannelSetup, cfg *Config,
 	remeasure func(x []float64) (*sources, error)) {
 	set := cfg.Uncertainty
 	if set.Draws <= 0 {
 		return
 	}
 	nums := numbers()
-	nz := uncert.NoiseOf(samples[:pre], quantumOf(&waveform.Channel{Samples: samples}))
+	nz := uncert.NoiseOf(samples[:pre], quantum)
 	sp := uncert.MonteCarlo(centre, nz, set.Draws, seedOf(row.File, row.Channel), len(nums), func(x, out []float64) error {
 		s, err := remeasure(x)
 		if err != nil {
@@ -441,7 +442,7 @@ func remeasureImpulse(r *impulse.Result, nom impulse.Nominal, advised bool, droo
 // need when that part measures the same, else on the whole record. The draws are
 // centred on the record without its noise (impulse.Result.Denoised) unless a droop
 // was undone, whose inverse is not at hand: then on the record itself.
-func dividerUncertainty(row *Row, src *sources, samples []float64, droop_s float64, r *impulse.Result, nom impulse.Nominal, cs ChannelSetup, cfg *Config) {
+func dividerUncertainty(row *Row, src *sources, ch *waveform.Channel, samples []float64, droop_s float64, r *impulse.Result, nom impulse.Nominal, cs ChannelSetup, cfg *Config) {
 	if cfg.Uncertainty.Draws <= 0 {
 		return
 	}
@@ -469,16 +470,16 @@ func dividerUncertainty(row *Row, src *sources, samples []float64, droop_s float
 		}
 	}
 	pre := min(r.Baseline.Samples, n)
-	measureUncertainty(row, src, samples, centre[:n], pre, r.Interval_s, cs, cfg, remeasureImpulse(r, nom, src.advice != nil, droop_s, cfg))
+	measureUncertainty(row, src, samples, centre[:n], quantumOf(ch, samples), pre, r.Interval_s, cs, cfg, remeasureImpulse(r, nom, src.advice != nil, droop_s, cfg))
 }
 
 // sensorUncertainty runs measureUncertainty for a sensor channel, re-running its whole
 // reconstruction on each noisy copy of its samples (scaled, before any droop is undone).
-func sensorUncertainty(row *Row, src *sources, samples []float64, droop_s, t0, dt float64, cs ChannelSetup, cfg *Config) {
+func sensorUncertainty(row *Row, src *sources, ch *waveform.Channel, samples []float64, droop_s, t0, dt float64, cs ChannelSetup, cfg *Config) {
 	if cfg.Uncertainty.Draws <= 0 {
 		return
 	}
-	measureUncertainty(row, src, samples, samples, waveform.PreTriggerLen(samples), dt, cs, cfg, func(x []float64) (*sources, error) {
+	measureUncertainty(row, src, samples, samples, quantumOf(ch, samples), waveform.PreTriggerLen(samples), dt, cs, cfg, func(x []float64) (*sources, error) {
 		if droop_s > 0 {
 			waveform.UndoDroop(x, dt, droop_s)
 		}

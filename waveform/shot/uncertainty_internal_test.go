@@ -11,6 +11,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"github.com/hvshot/hvshot/fit"
+	"github.com/hvshot/hvshot/waveform"
 	"github.com/hvshot/hvshot/waveform/impulse"
 )
 
@@ -83,4 +84,12 @@ func TestEveryNumberHasItsRule(t *testing.T) {
 		suf, ok := unitSuffix[c.Unit]
 		assert.True(t, ok && strings.HasSuffix(c.Key, suf), "%s: a key ending in its unit %q", c.Key, c.Unit)
 	}
+}
+
+// The quantisation step: a file's bits and range (scaled as the channel is), else the
+// least step in the data.
+func TestQuantumOf(t *testing.T) {
+	ch := &waveform.Channel{HasRange: true, RangeMin: -400e3, RangeMax: 400e3, ADCBits: 8}
+	assert.Equal(t, 3125.0, quantumOf(ch, []float64{0, 1, 2}))
+	assert.Equal(t, 0.5, quantumOf(&waveform.Channel{}, []float64{0, 0.5, 2, 2}))
 }
