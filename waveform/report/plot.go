@@ -100,7 +100,8 @@ func saveGrid(w io.Writer, format PlotFormat, grid [][]*plot.Plot) error {
 	} else {
 		c = vgsvg.New(width, height)
 	}
-	dc := draw.New(c)
+	// a margin on the right: the right column's last tick label and legend end there
+	dc := draw.Crop(draw.New(c), 0, -5*vg.Millimeter, 0, 0)
 	tiles := draw.Tiles{Rows: len(grid), Cols: len(grid[0]), PadX: vg.Millimeter * 6, PadY: vg.Millimeter * 6}
 	canv := plot.Align(grid, tiles, dc)
 	for j, row := range grid {
