@@ -70,7 +70,11 @@ func NewRecord(source string, interval_s, start_s float64, channels []Channel) (
 // ValidateTime checks the time base against the bounds above.
 func (r *Record) ValidateTime() error {
 	if !(r.Interval_s >= MinInterval_s && r.Interval_s <= MaxInterval_s) {
-		return fmt.Errorf("%w: sample interval %g s is outside %g to %g s", ErrInvalid, r.Interval_s, MinInterval_s, MaxInterval_s)
+		hint := ""
+		if r.Interval_s > MaxInterval_s {
+			hint = ": times in ns or us read as seconds? Give the time unit in the header (t [ns]) or the interval with --interval"
+		}
+		return fmt.Errorf("%w: sample interval %.4g s is outside %g to %g s%s", ErrInvalid, r.Interval_s, MinInterval_s, MaxInterval_s, hint)
 	}
 	if !(math.Abs(r.Start_s) <= MaxSpan_s) {
 		return fmt.Errorf("%w: start time %g s is more than an hour from the trigger", ErrInvalid, r.Start_s)

@@ -109,6 +109,11 @@ func TestNewRecordValidates(t *testing.T) {
 	assert.ErrorIs(t, err, ErrInvalid)
 	_, err = NewRecord("x", 1e-9, 0, []Channel{{Name: "a", Samples: ok[:3]}})
 	assert.ErrorIs(t, err, ErrInvalid)
+	// nanoseconds read as seconds: a 10 s interval, and the likely slip named
+	_, err = NewRecord("x", 9.999999999999902, 0, []Channel{{Name: "a", Samples: ok}})
+	assert.ErrorIs(t, err, ErrInvalid)
+	assert.ErrorContains(t, err, "sample interval 10 s is outside")
+	assert.ErrorContains(t, err, "ns or us read as seconds")
 }
 
 // The test voltage function of IEC 60060-1:2010 at 1 MHz passes 31.25 % of the power.
