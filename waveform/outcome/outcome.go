@@ -88,7 +88,7 @@ func newResult(p Procedure, polarity string) Result {
 	return Result{Procedure: p, Polarity: polarity, U50_v: nan, U50StdErr_v: nan, Sigma_v: nan, Z_pct: nan, U10_v: nan, Step_v: nan, DixonMoodFit: nan}
 }
 
-// Needed is the applications a withstand procedure asks for at most: A and C's first
+// needed is the applications a withstand procedure asks for at most: A and C's first
 // part 3, C with one discharge 12, B 15.
 var needed = map[Procedure]int{ProcedureA: 3, ProcedureB: 15, ProcedureC: 3}
 

@@ -349,7 +349,7 @@ func frequencyDomain(s *Shot, cfg *Config) {
 
 // compareShot sets the shot beside the reference.
 func compareShot(s *Shot, cmp *Comparison, figs []*Frequency) {
-	if !(&TestPlan{Shots: cmp.Shots}).Belongs(s.ID) && s.ID != cmp.RefID {
+	if !matchShots(cmp.Shots, s.ID) && s.ID != cmp.RefID {
 		return
 	}
 	for i := range s.Rows {

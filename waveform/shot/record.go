@@ -74,6 +74,12 @@ type AtmosphereSetup struct {
 	Log string `toml:"log"`
 }
 
+// pathPlausible is a minimum discharge path a test object can have (ours: above 0 and
+// below 100 m), and pathWords says so in a message.
+func pathPlausible(l_m float64) bool { return l_m > 0 && l_m < 100 }
+
+const pathWords = "the minimum discharge path in metres, above 0 and below 100"
+
 // atmosKeys are the table's keys by the atmos field they fill, for messages.
 var atmosKeys = map[string]string{"Pressure_pa": "pressure_kpa", "Temperature_c": "temperature_c",
 	"RelHumidity_pct": "relative_humidity_pct", "AbsHumidity_g_per_m3": "absolute_humidity_g_per_m3", "path_m": "discharge_path_m"}
@@ -90,8 +96,8 @@ func (s *Setup) air(at func(k ...string) int) (*atmos.Conditions, float64, error
 	}
 	if a.Log != "" && a.Pressure_kpa == nil && a.Temperature_c == nil && a.RelHumidity_pct == nil && a.AbsHumidity_g_per_m3 == nil {
 		// the log's readings only: the path is all the table must give
-		if a.Path_m == nil || !(*a.Path_m > 0 && *a.Path_m < 100) {
-			return nil, 0, bad("discharge_path_m", "the minimum discharge path in metres, above 0 and below 100, is needed with the log")
+		if a.Path_m == nil || !pathPlausible(*a.Path_m) {
+			return nil, 0, bad("discharge_path_m", "%s, is needed with the log", pathWords)
 		}
 		return nil, *a.Path_m, nil
 	}
@@ -123,8 +129,8 @@ func (s *Setup) air(at func(k ...string) int) (*atmos.Conditions, float64, error
 		}
 		return nil, 0, bad("pressure_kpa", "%v", err)
 	}
-	if !(*a.Path_m > 0 && *a.Path_m < 100) {
-		return nil, 0, bad("discharge_path_m", "%g: the minimum discharge path in metres, above 0 and below 100", *a.Path_m)
+	if !pathPlausible(*a.Path_m) {
+		return nil, 0, bad("discharge_path_m", "%g: %s", *a.Path_m, pathWords)
 	}
 	if !s.Nominal.TestVoltage.Set && len(s.Tests) == 0 {
 		return nil, 0, bad("pressure_kpa", "the correction is computed for a withstand test at the nominal test voltage: give [nominal] test_voltage")

@@ -133,8 +133,8 @@ func (s *Setup) test(i int, text string) (*TestPlan, error) {
 		p.Path_m = *s.Atmosphere.Path_m
 	}
 	if v := t.DischargePath_m; v != nil {
-		if !(*v > 0 && *v < 100) {
-			return nil, bad("discharge_path_m", "%g: the minimum discharge path in metres, above 0 and below 100", *v)
+		if !pathPlausible(*v) {
+			return nil, bad("discharge_path_m", "%g: %s", *v, pathWords)
 		}
 		p.Path_m = *v
 	}
@@ -179,21 +179,26 @@ func tableKeyLine(text, name string, i int, key string) int {
 }
 
 // Belongs reports whether the shot id is one of the test's shots.
-func (p *TestPlan) Belongs(id string) bool {
-	if len(p.Shots) == 0 {
+func (p *TestPlan) Belongs(id string) bool { return matchShots(p.Shots, id) }
+
+// matchShots reports whether the shot id is one of a setup's shots: patterns
+// (path.Match) on its identity or its file name; no patterns, every shot.
+func matchShots(patterns []string, id string) bool {
+	if len(patterns) == 0 {
 		return true
 	}
-	base := path.Base(strings.ReplaceAll(id, "\\", "/"))
-	for _, pat := range p.Shots {
-		if ok, _ := path.Match(pat, id); ok {
-			return true
-		}
-		if ok, _ := path.Match(pat, base); ok {
-			return true
+	for _, pat := range patterns {
+		for _, n := range []string{id, fileName(id)} {
+			if ok, _ := path.Match(pat, n); ok {
+				return true
+			}
 		}
 	}
 	return false
 }
+
+// fileName is the file name in a shot's identity.
+func fileName(id string) string { return path.Base(strings.ReplaceAll(id, "\\", "/")) }
 
 // TestFor is the first test the shot id belongs to, nil when none.
 func (c *Config) TestFor(id string) *TestPlan {
@@ -228,7 +233,7 @@ func quoteOrMissing(s string) string {
 // mark is the hand marking of the shot id: by its identity, its file name, or its file
 // name without the extension.
 func (p *TestPlan) mark(id string) (discharged, marked bool, name string) {
-	base := path.Base(strings.ReplaceAll(id, "\\", "/"))
+	base := fileName(id)
 	for _, n := range []string{id, base, strings.TrimSuffix(base, path.Ext(base))} {
 		if d, ok := p.marks[n]; ok {
 			return d, true, n
